@@ -1,0 +1,126 @@
+package dev.twofold.service.http;
+
+import io.javalin.http.Context;
+import java.io.ByteArrayOutputStream;
+import java.io.IOException;
+import java.io.InputStream;
+import java.io.UncheckedIOException;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+
+/**
+ * Reads and checks request parameters and bodies against the {@link Limits}; every refusal is a
+ * {@link ProblemException} whose detail names the parameter, the value's problem and the allowed
+ * range.
+ */
+final class RequestInput {
+
+    private RequestInput() {
+    }
+
+    /** A path or query id, checked to be 1..128 characters. */
+    static String id(String name, String value) {
+        String problem = idProblem(value);
+        if (problem != null) {
+            throw new ProblemException(ProblemType.INVALID_PARAMETER, name + " " + problem);
+        }
+        return value;
+    }
+
+    /** Why {@code value} is not a valid id ("has 0 characters; ids have 1..128"), or null when it is. */
+    static String idProblem(String value) {
+        int chars = value.codePointCount(0, value.length());
+        if (chars < Limits.MIN_ID_CHARS || chars > Limits.MAX_ID_CHARS) {
+            return "has " + chars + " characters; ids have " + Limits.MIN_ID_CHARS + ".." + Limits.MAX_ID_CHARS;
+        }
+        return null;
+    }
+
+    /** Query parameter {@code count}: {@link Limits#DEFAULT_COUNT} when absent, else an integer in 1..1000. */
+    static int count(Context ctx) {
+        String raw = ctx.queryParam("count");
+        if (raw == null) {
+            return Limits.DEFAULT_COUNT;
+        }
+        int count;
+        try {
+            count = Integer.parseInt(raw.trim());
+        } catch (NumberFormatException e) {
+            count = Integer.MIN_VALUE;
+        }
+        if (count < Limits.MIN_COUNT || count > Limits.MAX_COUNT) {
+            throw new ProblemException(ProblemType.INVALID_PARAMETER, "count must be an integer in "
+                    + Limits.MIN_COUNT + ".." + Limits.MAX_COUNT + "; got '" + shorten(raw) + "'");
+        }
+        return count;
+    }
+
+    /**
+     * Query parameter {@code name} as a list of ids, separated by commas and/or given as repeated
+     * parameters; an empty parameter means no ids.
+     */
+    static List<String> idList(Context ctx, String name) {
+        List<String> ids = new ArrayList<>();
+        for (String value : ctx.queryParams(name)) {
+            if (value.isEmpty()) {
+                continue;
+            }
+            for (String id : value.split(",", -1)) {
+                String problem = idProblem(id);
+                if (problem != null) {
+                    throw new ProblemException(ProblemType.INVALID_PARAMETER, name + " id #" + (ids.size() + 1)
+                            + " ('" + shorten(id) + "') " + problem);
+                }
+                ids.add(id);
+            }
+        }
+        return ids;
+    }
+
+    /**
+     * The request body, which must be declared JSON and at most {@link Limits#MAX_BODY_BYTES}. A
+     * declared Content-Length over the limit is refused before reading; otherwise reading stops
+     * one byte past the limit.
+     */
+    static byte[] jsonBody(Context ctx) {
+        String type = ctx.contentType();
+        if (type == null || !isJson(type)) {
+            throw new ProblemException(ProblemType.UNSUPPORTED_MEDIA_TYPE, "send the body as application/json; got "
+                    + (type == null ? "no Content-Type" : "Content-Type '" + shorten(type) + "'"));
+        }
+        long declared = ctx.req().getContentLengthLong();
+        if (declared > Limits.MAX_BODY_BYTES) {
+            throw tooLarge(declared + " bytes");
+        }
+        try (InputStream in = ctx.req().getInputStream()) {
+            ByteArrayOutputStream out = new ByteArrayOutputStream(declared > 0 ? (int) declared : 8192);
+            byte[] buffer = new byte[8192];
+            int n;
+            while ((n = in.read(buffer)) != -1) {
+                out.write(buffer, 0, n);
+                if (out.size() > Limits.MAX_BODY_BYTES) {
+                    throw tooLarge("more than " + Limits.MAX_BODY_BYTES + " bytes");
+                }
+            }
+            return out.toByteArray();
+        } catch (IOException e) {
+            throw new UncheckedIOException("reading the request body of " + ctx.method() + " " + ctx.path(), e);
+        }
+    }
+
+    private static boolean isJson(String contentType) {
+        String media = contentType.split(";", 2)[0].trim().toLowerCase(Locale.ROOT);
+        return media.equals("application/json") || (media.startsWith("application/") && media.endsWith("+json"));
+    }
+
+    private static ProblemException tooLarge(String size) {
+        return new ProblemException(ProblemType.BODY_TOO_LARGE, "the request body has " + size + "; at most "
+                + Limits.MAX_BODY_BYTES + " bytes (1 MiB) are accepted");
+    }
+
+    /** A client's value quoted in a detail, cut to a readable length. */
+    static String shorten(String value) {
+        return value.length() <= 40 ? value : value.substring(0, 37) + "...";
+    }
+}
