@@ -1,0 +1,110 @@
+package dev.twofold.service;
+
+import dev.twofold.db.connect.Database;
+import dev.twofold.db.connect.DatabaseSettings;
+import dev.twofold.service.model.ModelLoader;
+import java.util.Map;
+import java.util.concurrent.Callable;
+import java.util.concurrent.CountDownLatch;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+import picocli.CommandLine.Command;
+
+/**
+ * {@code twofold serve}: opens the database, loads the active model (or waits for a first one,
+ * live but not ready), serves HTTP until SIGTERM or SIGINT, then drains requests in flight and
+ * closes everything in reverse order.
+ */
+@Command(
+        name = "serve",
+        mixinStandardHelpOptions = true,
+        description = "Serve recommendations and predictions over HTTP from the active model.",
+        footerHeading = "%nEnvironment:%n",
+        footer = {
+            "  TWOFOLD_HTTP_HOST   interface to listen on (default " + ServiceSettings.DEFAULT_HOST + ")",
+            "  TWOFOLD_HTTP_PORT   port, 0..65535, 0 picks a free one (default " + ServiceSettings.DEFAULT_PORT + ")",
+            "  TWOFOLD_DB_URL, TWOFOLD_DB_USER, TWOFOLD_DB_PASSWORD, TWOFOLD_DATA_DIR   the database",
+            "The API is described by GET /openapi.yaml."
+        })
+public final class ServeCommand implements Callable<Integer> {
+
+    private static final Logger LOG = LoggerFactory.getLogger(ServeCommand.class);
+
+    private final Map<String, String> env;
+    private final boolean stopOnSignal;
+    private final CountDownLatch stopAsked = new CountDownLatch(1);
+    private final CountDownLatch stopped = new CountDownLatch(1);
+    private volatile int port = -1;
+
+    /** The command as the launcher runs it: settings from the process environment, stopped by signals. */
+    public ServeCommand() {
+        this(System.getenv(), true);
+    }
+
+    /**
+     * @param env          where the settings come from
+     * @param stopOnSignal whether SIGTERM/SIGINT (a JVM shutdown hook) stop the service; otherwise
+     *                     only {@link #stop()} does
+     */
+    ServeCommand(Map<String, String> env, boolean stopOnSignal) {
+        this.env = env;
+        this.stopOnSignal = stopOnSignal;
+    }
+
+    @Override
+    public Integer call() {
+        ServiceSettings settings = ServiceSettings.fromEnvironment(env);
+        DatabaseSettings databaseSettings = DatabaseSettings.fromEnvironment(env);
+        try (Database database = Database.open(databaseSettings);
+                Service service = new Service(settings);
+                ModelWatcher watcher = new ModelWatcher(new ModelLoader(database)::loadActive, service,
+                        settings.modelPollInterval())) {
+            Thread hook = new Thread(this::stopAndWait, "twofold-serve-stop");
+            if (stopOnSignal) {
+                Runtime.getRuntime().addShutdownHook(hook);
+            }
+            boolean ready = watcher.check();
+            port = service.start();
+            LOG.info("Twofold serving on http://{}:{} ({}); database {}", settings.host(), port,
+                    ready ? "model " + service.model().orElseThrow().id() : "waiting for a first model",
+                    database.description());
+            if (!ready) {
+                watcher.start();
+            }
+            awaitStop();
+            LOG.info("stopping: finishing requests in flight (up to {} ms)", settings.stopTimeout().toMillis());
+        } finally {
+            stopped.countDown();
+        }
+        LOG.info("stopped");
+        return 0;
+    }
+
+    /** The bound port once serving, else -1. */
+    int port() {
+        return port;
+    }
+
+    /** Asks a running {@link #call()} to stop; it returns after closing everything. */
+    void stop() {
+        stopAsked.countDown();
+    }
+
+    private void awaitStop() {
+        try {
+            stopAsked.await();
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+
+    /** Shutdown hook: the JVM exits once this returns, so wait until call() has closed everything. */
+    private void stopAndWait() {
+        stop();
+        try {
+            stopped.await();
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+}

@@ -1,0 +1,98 @@
+package dev.twofold.service;
+
+import dev.twofold.service.http.AccessPolicy;
+import dev.twofold.service.http.HttpApi;
+import dev.twofold.service.model.ServingModel;
+import java.util.Optional;
+import java.util.concurrent.atomic.AtomicReference;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * The running service: the HTTP API and the model it answers from. The model sits in an
+ * {@link AtomicReference}; {@link #install} replaces it in one step, so every request sees one
+ * whole model, the old or the new. Until a model is installed the service is live but not ready:
+ * {@code /v1} reads and {@code /health/ready} answer 503.
+ *
+ * <p>Lifecycle: construct, {@link #start()} once, {@link #close()} (safe to call again, and
+ * without a start). Closing stops accepting connections and lets requests in flight finish for up
+ * to {@link ServiceSettings#stopTimeout()}.
+ */
+public final class Service implements AutoCloseable {
+
+    private static final Logger LOG = LoggerFactory.getLogger(Service.class);
+
+    private final ServiceSettings settings;
+    private final AtomicReference<ServingModel> model = new AtomicReference<>();
+    private final HttpApi http;
+    private final Object lifecycle = new Object();
+    private boolean started;
+    private boolean closed;
+
+    /** A service that admits every request (no API keys yet). */
+    public Service(ServiceSettings settings) {
+        this(settings, AccessPolicy.OPEN);
+    }
+
+    public Service(ServiceSettings settings, AccessPolicy access) {
+        this.settings = settings;
+        this.http = new HttpApi(model::get, access, settings.stopTimeout(), settings.retryAfterSeconds());
+    }
+
+    /**
+     * Binds {@link ServiceSettings#host()}:{@link ServiceSettings#port()} and starts serving.
+     *
+     * @return the bound port (the chosen one when the setting is 0)
+     * @throws ServiceStartException when the address cannot be bound
+     * @throws IllegalStateException when called twice or after {@link #close()}
+     */
+    public int start() {
+        synchronized (lifecycle) {
+            if (started || closed) {
+                throw new IllegalStateException(closed ? "the service is closed" : "the service is already started");
+            }
+            started = true;
+            try {
+                return http.start(settings.host(), settings.port());
+            } catch (RuntimeException e) {
+                throw new ServiceStartException("cannot serve HTTP on " + settings.host() + ":" + settings.port()
+                        + " (" + e.getMessage() + "); free the port or set " + ServiceSettings.PORT_VARIABLE + "/"
+                        + ServiceSettings.HOST_VARIABLE, e);
+            }
+        }
+    }
+
+    /** Makes {@code next} the model that answers requests from now on; returns the one it replaced, if any. */
+    public Optional<ServingModel> install(ServingModel next) {
+        if (next == null) {
+            throw new IllegalArgumentException("model must not be null");
+        }
+        ServingModel previous = model.getAndSet(next);
+        LOG.info("serving model {} ({} items, rank {})", next.id(), next.numItems(), next.rank());
+        return Optional.ofNullable(previous);
+    }
+
+    /** The model answering requests now, if one is loaded. */
+    public Optional<ServingModel> model() {
+        return Optional.ofNullable(model.get());
+    }
+
+    /** Requests being handled right now. */
+    public long inFlightRequests() {
+        return http.inFlightRequests();
+    }
+
+    /** Stops serving gracefully; later calls do nothing. */
+    @Override
+    public void close() {
+        synchronized (lifecycle) {
+            if (closed) {
+                return;
+            }
+            closed = true;
+            if (started) {
+                http.stop();
+            }
+        }
+    }
+}
