@@ -32,9 +32,21 @@ final class Problems {
         this.retryAfterSeconds = retryAfterSeconds;
     }
 
-    /** Routes every exception, and Javalin's own 404/405 for unknown routes, through {@link #handle}. */
+    /**
+     * Routes every exception through {@link #handle}, and turns Javalin's own 404 (no such route)
+     * and 405 (route exists, method does not) responses, which bypass exception handlers, into
+     * problems; a response that already is a problem is left alone.
+     */
     void register(RoutesConfig routes) {
         routes.exception(Exception.class, this::handle);
+        for (int status : new int[] {404, 405}) {
+            routes.error(status, ctx -> {
+                String current = ctx.res().getContentType();
+                if (current == null || !current.startsWith(CONTENT_TYPE)) {
+                    sendStatus(ctx, status, null);
+                }
+            });
+        }
     }
 
     void handle(Exception failure, Context ctx) {
