@@ -1,0 +1,57 @@
+package dev.twofold.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import dev.twofold.db.TwofoldException;
+import java.time.Duration;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+
+class ServiceSettingsTest {
+
+    @Test
+    void with_nothing_set_the_service_listens_on_every_interface_at_8080() {
+        ServiceSettings settings = ServiceSettings.fromEnvironment(Map.of());
+        assertEquals("0.0.0.0", settings.host());
+        assertEquals(8080, settings.port());
+        assertEquals(Duration.ofMillis(ServiceSettings.DEFAULT_STOP_TIMEOUT_MS), settings.stopTimeout());
+        assertEquals(5, settings.retryAfterSeconds());
+    }
+
+    @Test
+    void host_and_port_come_from_the_environment() {
+        ServiceSettings settings = ServiceSettings.fromEnvironment(
+                Map.of("TWOFOLD_HTTP_HOST", " 127.0.0.1 ", "TWOFOLD_HTTP_PORT", "0"));
+        assertEquals("127.0.0.1", settings.host());
+        assertEquals(0, settings.port());
+        assertEquals(65535, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_PORT", "65535")).port());
+        assertEquals(8080, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_PORT", " ")).port());
+    }
+
+    @Test
+    void a_bad_port_is_refused_naming_the_variable_the_value_and_the_range() {
+        for (String port : new String[] {"65536", "-1", "eighty", "80.5"}) {
+            SettingsException e = assertThrows(SettingsException.class,
+                    () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_PORT", port)));
+            assertTrue(e.getMessage().contains("TWOFOLD_HTTP_PORT") && e.getMessage().contains(port)
+                    && e.getMessage().contains("0..65535"), e.getMessage());
+            assertEquals(TwofoldException.EXIT_USAGE, e.exitCode());
+        }
+    }
+
+    @Test
+    void a_host_with_spaces_inside_is_refused() {
+        SettingsException e = assertThrows(SettingsException.class,
+                () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_HOST", "local host")));
+        assertTrue(e.getMessage().contains("TWOFOLD_HTTP_HOST") && e.getMessage().contains("local host"),
+                e.getMessage());
+    }
+
+    @Test
+    void retry_after_rounds_the_poll_interval_up_to_whole_seconds() {
+        assertEquals(1, new ServiceSettings("h", 1, Duration.ZERO, Duration.ofMillis(100)).retryAfterSeconds());
+        assertEquals(3, new ServiceSettings("h", 1, Duration.ZERO, Duration.ofMillis(2001)).retryAfterSeconds());
+    }
+}
