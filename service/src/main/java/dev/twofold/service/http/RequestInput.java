@@ -4,7 +4,6 @@ import io.javalin.http.Context;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
 import java.io.InputStream;
-import java.io.UncheckedIOException;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
@@ -105,7 +104,8 @@ final class RequestInput {
             }
             return out.toByteArray();
         } catch (IOException e) {
-            throw new UncheckedIOException("reading the request body of " + ctx.method() + " " + ctx.path(), e);
+            throw new ProblemException(ProblemType.INVALID_BODY, "the request body could not be read to its end ("
+                    + e.getMessage() + "); send it again");
         }
     }
 

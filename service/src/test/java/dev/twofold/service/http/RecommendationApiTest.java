@@ -131,6 +131,13 @@ class RecommendationApiTest {
     }
 
     @Test
+    void an_id_with_an_encoded_slash_stays_one_id() {
+        HttpResponse<String> response = api.get("/v1/users/a%2Fb/recommendations");
+        assertEquals(200, response.statusCode(), response.body());
+        assertEquals("a/b", ApiClient.json(response).path("user").asText());
+    }
+
+    @Test
     void a_count_outside_one_to_a_thousand_is_a_400_naming_the_parameter_and_range() {
         for (String count : new String[] {"0", "1001", "-3", "ten", "2.5", ""}) {
             String detail = assertProblem(api.get("/v1/users/cy/recommendations?count=" + count), 400,
