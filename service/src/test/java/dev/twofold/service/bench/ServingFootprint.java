@@ -1,0 +1,119 @@
+package dev.twofold.service.bench;
+
+import dev.twofold.db.registry.ModelFactors;
+import dev.twofold.db.snapshot.IdDirectory;
+import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.scoring.Ranker;
+import dev.twofold.service.testing.KitchenModel;
+import java.lang.management.ManagementFactory;
+import java.util.Arrays;
+import java.util.BitSet;
+import java.util.List;
+import java.util.SplittableRandom;
+
+/**
+ * Measures what a served model costs: retained heap against the raw factor bytes, and the time to
+ * rank one user's items. A plain main, not a test:
+ *
+ * <pre>
+ * mvn -B -q -pl service -am test-compile
+ * java -Xmx6g -cp "service/target/test-classes:service/target/classes:$(cat cp.txt)" \
+ *     dev.twofold.service.bench.ServingFootprint [users items rank ratingsPerUser]
+ * </pre>
+ * (cp.txt from {@code mvn -q -pl service dependency:build-classpath -Dmdep.outputFile=cp.txt}).
+ * Defaults: 1,000,000 users, 100,000 items, rank 64, 20 ratings per user; then ranking latency
+ * on 20,000 items at rank 64.
+ */
+public final class ServingFootprint {
+
+    private static final long SEED = 7L;
+    private static final int WARMUP_REQUESTS = 3_000;
+    private static final int MEASURED_REQUESTS = 5_000;
+    private static final long MIB = 1L << 20;
+
+    private ServingFootprint() {
+    }
+
+    public static void main(String[] args) {
+        int users = args.length > 0 ? Integer.parseInt(args[0]) : 1_000_000;
+        int items = args.length > 1 ? Integer.parseInt(args[1]) : 100_000;
+        int k = args.length > 2 ? Integer.parseInt(args[2]) : 64;
+        int perUser = args.length > 3 ? Integer.parseInt(args[3]) : 20;
+
+        long before = usedHeap();
+        ServingModel model = build(users, items, k, perUser, SEED);
+        long retained = usedHeap() - before;
+        long raw = 4L * ((long) users * k + (long) items * k + users + items);
+        long target = raw * 3 / 2 + 200 * MIB;
+        System.out.printf("footprint: %,d users x %,d items, rank %d, %,d ratings%n", users, items, k,
+                (long) users * perUser);
+        System.out.printf("  raw factor bytes %,d MiB; retained heap %,d MiB (%.2fx raw); target 1.5x raw + 200 MiB"
+                + " = %,d MiB -> %s%n", raw / MIB, retained / MIB, (double) retained / raw, target / MIB,
+                retained <= target ? "within" : "OVER");
+        System.out.println("  " + model);
+        model = null;
+
+        ServingModel small = build(20_000, 20_000, 64, perUser, SEED + 1);
+        Ranker ranker = new Ranker();
+        SplittableRandom random = new SplittableRandom(SEED);
+        for (int r = 0; r < WARMUP_REQUESTS; r++) {
+            ranker.recommend(small, "cook-" + random.nextInt(20_000), 10, List.of());
+        }
+        long[] nanos = new long[MEASURED_REQUESTS];
+        for (int r = 0; r < MEASURED_REQUESTS; r++) {
+            String user = "cook-" + random.nextInt(20_000);
+            long t0 = System.nanoTime();
+            ranker.recommend(small, user, 10, List.of());
+            nanos[r] = System.nanoTime() - t0;
+        }
+        Arrays.sort(nanos);
+        System.out.printf("ranking top 10 of 20,000 items at rank 64, one thread: p50 %d us, p99 %d us%n",
+                nanos[MEASURED_REQUESTS / 2] / 1000, nanos[MEASURED_REQUESTS * 99 / 100] / 1000);
+    }
+
+    private static ServingModel build(int users, int items, int k, int perUser, long seed) {
+        SplittableRandom random = new SplittableRandom(seed);
+        float[] P = new float[users * k];
+        float[] Q = new float[items * k];
+        for (int j = 0; j < P.length; j++) {
+            P[j] = (float) (random.nextDouble() - 0.5);
+        }
+        for (int j = 0; j < Q.length; j++) {
+            Q[j] = (float) (random.nextDouble() - 0.5);
+        }
+        float[] bU = new float[users];
+        float[] bI = new float[items];
+        float[] popularity = new float[items];
+        for (int i = 0; i < items; i++) {
+            popularity[i] = random.nextInt(1000);
+        }
+        String[] userIds = new String[users];
+        String[] itemIds = new String[items];
+        for (int u = 0; u < users; u++) {
+            userIds[u] = "cook-" + u;
+        }
+        for (int i = 0; i < items; i++) {
+            itemIds[i] = "recipe-" + i;
+        }
+        int[] ratingUser = new int[users * perUser];
+        int[] ratingItem = new int[ratingUser.length];
+        for (int r = 0; r < ratingUser.length; r++) {
+            ratingUser[r] = r / perUser;
+            ratingItem[r] = random.nextInt(items);
+        }
+        BitSet knownUsers = new BitSet(users);
+        knownUsers.set(0, users);
+        BitSet knownItems = new BitSet(items);
+        knownItems.set(0, items);
+        ModelFactors factors = new ModelFactors(k, P, bU, knownUsers, Q, bI, popularity, knownItems, null);
+        return ServingModel.assemble(KitchenModel.header(1, k, users, items, 3.5f, 1f, 5f), factors,
+                new IdDirectory(userIds, itemIds), ratingUser, ratingItem);
+    }
+
+    private static long usedHeap() {
+        for (int i = 0; i < 3; i++) {
+            System.gc();
+        }
+        return ManagementFactory.getMemoryMXBean().getHeapMemoryUsage().getUsed();
+    }
+}
