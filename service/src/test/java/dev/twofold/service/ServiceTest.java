@@ -24,6 +24,7 @@ import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
 import java.nio.charset.StandardCharsets;
 import java.time.Duration;
+import java.util.List;
 import java.util.Map;
 import java.util.concurrent.CompletableFuture;
 import java.util.concurrent.TimeUnit;
@@ -46,10 +47,10 @@ class ServiceTest {
             ApiClient api = new ApiClient(service.start());
             assertEquals(200, api.get("/health/live").statusCode());
 
-            for (HttpResponse<String> response : new HttpResponse[] {
-                api.get("/health/ready"),
-                api.get("/v1/users/cy/recommendations"),
-                api.postJson("/v1/predictions", "{\"pairs\": [{\"user\": \"cy\", \"item\": \"soup\"}]}")}) {
+            for (HttpResponse<String> response : List.of(
+                    api.get("/health/ready"),
+                    api.get("/v1/users/cy/recommendations"),
+                    api.postJson("/v1/predictions", "{\"pairs\": [{\"user\": \"cy\", \"item\": \"soup\"}]}"))) {
                 assertEquals(503, response.statusCode(), response.body());
                 assertEquals("application/problem+json", response.headers().firstValue("Content-Type").orElseThrow());
                 assertEquals(ProblemType.MODEL_NOT_LOADED.uri(), ApiClient.json(response).path("type").asText());
@@ -170,7 +171,8 @@ class ServiceTest {
     }
 
     private static boolean refusesConnections(int port) {
-        try (Socket probe = new Socket(InetAddress.getLoopbackAddress(), port)) {
+        try (Socket probe = new Socket()) {
+            probe.connect(new java.net.InetSocketAddress(InetAddress.getLoopbackAddress(), port));
             return false;
         } catch (ConnectException e) {
             return true;
