@@ -67,6 +67,8 @@ public final class EmbeddedServer {
     public static final String BINARIES_DIR = "pg-bin";
     public static final String PASSWORD_FILE = "pg-password";
     public static final String LOG_FILE = "pg.log";
+    /** System property naming a directory for the unpacked binaries instead of {@code DATA_DIR/pg-bin}. */
+    public static final String BINARIES_PROPERTY = "twofold.pg.binaries";
 
     static final long START_TIMEOUT_S = 60;
     static final long STOP_TIMEOUT_S = 60;
@@ -93,9 +95,14 @@ public final class EmbeddedServer {
             });
         }
 
-        /** Binaries under the data directory, default server settings, durable initdb. */
+        /**
+         * Binaries under the data directory (or where the system property {@value #BINARIES_PROPERTY}
+         * says, so test runs can share one unpacked copy), default server settings, durable initdb.
+         */
         public static Options forDataDir(Path dataDir) {
-            return new Options(dataDir.resolve(BINARIES_DIR), Map.of(), true);
+            String shared = System.getProperty(BINARIES_PROPERTY);
+            Path root = shared == null || shared.isBlank() ? dataDir.resolve(BINARIES_DIR) : Path.of(shared);
+            return new Options(root, Map.of(), true);
         }
     }
 

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
+import dev.twofold.db.testing.TestDatabases;
 import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.InputStreamReader;
@@ -20,6 +21,7 @@ import java.sql.Statement;
 import java.util.List;
 import java.util.concurrent.TimeUnit;
 import org.junit.jupiter.api.AfterEach;
+import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -31,6 +33,12 @@ class EmbeddedServerTest {
 
     @TempDir
     Path dataDir;
+
+    @BeforeAll
+    static void shareUnpackedBinaries() {
+        // Unpacking takes seconds; production unpacks under each data directory, the tests share one copy.
+        System.setProperty(EmbeddedServer.BINARIES_PROPERTY, TestDatabases.sharedBinaries().toString());
+    }
 
     @AfterEach
     void stopLeftovers() {
@@ -93,6 +101,7 @@ class EmbeddedServerTest {
         Database starter = Database.open(DatabaseSettings.embedded(dataDir));
         execute(starter, "insert into users (external_id) values ('ada'), ('grace'), ('alan')");
         Process child = new ProcessBuilder(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
+                "-D" + EmbeddedServer.BINARIES_PROPERTY + "=" + TestDatabases.sharedBinaries(),
                 "-cp", System.getProperty("java.class.path"), JoiningProcess.class.getName(), dataDir.toString())
                 .redirectError(ProcessBuilder.Redirect.DISCARD)
                 .start();

@@ -104,7 +104,7 @@ public final class TestDatabases {
     private static Server startEmbedded() {
         try {
             Path dataDir = Files.createTempDirectory("twofold-test-pg-");
-            Path binaries = Path.of(System.getProperty("java.io.tmpdir"), "twofold-pg-bin");
+            Path binaries = sharedBinaries();
             EmbeddedServer embedded;
             try (DataDirectoryLock lock = DataDirectoryLock.acquire(dataDir)) {
                 embedded = EmbeddedServer.startOrJoin(dataDir, new EmbeddedServer.Options(binaries, TEST_SERVER_SETTINGS, false));
@@ -121,6 +121,13 @@ public final class TestDatabases {
         } catch (IOException e) {
             throw new UncheckedIOException("cannot create a temporary directory for the embedded test PostgreSQL", e);
         }
+    }
+
+    /** Where test runs unpack the PostgreSQL binaries once for all JVMs: the {@value EmbeddedServer#BINARIES_PROPERTY} property or tmp. */
+    public static Path sharedBinaries() {
+        String configured = System.getProperty(EmbeddedServer.BINARIES_PROPERTY);
+        return configured != null && !configured.isBlank() ? Path.of(configured)
+                : Path.of(System.getProperty("java.io.tmpdir"), "twofold-pg-bin");
     }
 
     private static void admin(Server s, String sql) {
