@@ -36,6 +36,7 @@ public final class TestDatabases {
             "fsync", "off", "synchronous_commit", "off", "full_page_writes", "off", "max_connections", "200");
 
     private static final AtomicInteger COUNTER = new AtomicInteger();
+    private static final Map<Database, Map<String, String>> ENVIRONMENTS = new java.util.concurrent.ConcurrentHashMap<>();
     private static Server server;
 
     private TestDatabases() {
@@ -61,8 +62,26 @@ public final class TestDatabases {
             admin(s, "drop database if exists " + name + " with (force)");
             throw e;
         }
-        db.onClose(() -> admin(s, "drop database if exists " + name + " with (force)"));
+        ENVIRONMENTS.put(db, Map.of(DatabaseSettings.ENV_URL, s.url(name),
+                DatabaseSettings.ENV_USER, s.user() == null ? "" : s.user(),
+                DatabaseSettings.ENV_PASSWORD, s.password() == null ? "" : s.password()));
+        db.onClose(() -> {
+            ENVIRONMENTS.remove(db);
+            admin(s, "drop database if exists " + name + " with (force)");
+        });
         return db;
+    }
+
+    /**
+     * The {@code TWOFOLD_DB_*} variables that reach a database made by {@link #fresh()}, for testing
+     * commands that read {@code DatabaseSettings.fromEnvironment}.
+     */
+    public static Map<String, String> environment(Database db) {
+        Map<String, String> env = ENVIRONMENTS.get(db);
+        if (env == null) {
+            throw new IllegalArgumentException("not an open database from TestDatabases.fresh(): " + db.description());
+        }
+        return env;
     }
 
     /** Which server the tests of this JVM use (for messages). */
