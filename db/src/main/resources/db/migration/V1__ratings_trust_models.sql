@@ -3,24 +3,30 @@
 -- Users and items get dense integer indices (idx) the trainer and service use as array offsets;
 -- external ids are the strings of the product backend. Indices are never reused; a rolled-back
 -- insert may leave a gap, so the index space is max(idx) + 1 and unused slots are simply empty.
+-- Indices start at 0.
 
 create table users (
-    idx         integer generated always as identity primary key,
+    idx         integer generated always as identity (start with 0 minvalue 0) primary key,
     external_id text not null unique check (char_length(external_id) between 1 and 128),
     created_at  timestamptz not null default now()
 );
 
 create table items (
-    idx         integer generated always as identity primary key,
+    idx         integer generated always as identity (start with 0 minvalue 0) primary key,
     external_id text not null unique check (char_length(external_id) between 1 and 128),
     created_at  timestamptz not null default now()
 );
 
+-- ratings and trust carry no foreign keys to users/items: every Twofold write path maps external
+-- ids through those tables, so the indices always exist, and per-row key checks (each one locks the
+-- referenced row) multiplied the time of a million-row import several times over. Erasing a user
+-- deletes its ratings and trust edges explicitly.
+
 -- One row per (user, item): the latest rating wins (see the importer for the exact rule).
 -- rated_at is the time the rating was given, when the source knew it; updated_at is when Twofold stored it.
 create table ratings (
-    user_idx   integer not null references users (idx) on delete cascade,
-    item_idx   integer not null references items (idx) on delete cascade,
+    user_idx   integer not null check (user_idx >= 0),
+    item_idx   integer not null check (item_idx >= 0),
     rating     real not null check (rating > '-Infinity' and rating < 'Infinity'),  -- finite (NaN sorts above Infinity)
     rated_at   timestamptz,
     updated_at timestamptz not null default now(),
@@ -29,8 +35,8 @@ create table ratings (
 
 -- A directed edge: truster follows trustee's taste with a weight in (0, 1].
 create table trust (
-    truster_idx integer not null references users (idx) on delete cascade,
-    trustee_idx integer not null references users (idx) on delete cascade,
+    truster_idx integer not null check (truster_idx >= 0),
+    trustee_idx integer not null check (trustee_idx >= 0),
     weight      real not null default 1 check (weight > 0 and weight <= 1),
     created_at  timestamptz not null default now(),
     updated_at  timestamptz not null default now(),
