@@ -2,6 +2,9 @@ package dev.twofold.db.ingest;
 
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
+import dev.twofold.db.snapshot.IdDirectory;
+import dev.twofold.db.snapshot.Snapshot;
+import dev.twofold.db.snapshot.SnapshotReader;
 import java.io.BufferedWriter;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
@@ -13,7 +16,7 @@ import java.util.SplittableRandom;
 /**
  * Import throughput: {@code RATINGS} ratings and {@code TRUST} trust edges of a generated cooking
  * community into an embedded server (durable settings) in a fresh data directory, then the same files
- * again (everything already stored). Not a test; run with
+ * again (everything already stored), then reads the snapshot and the id maps back. Not a test; run with
  * {@code java -cp db/target/test-classes:db/target/classes:$(deps) dev.twofold.db.ingest.ImportBenchmark [dataDir]}.
  */
 public final class ImportBenchmark {
@@ -55,6 +58,16 @@ public final class ImportBenchmark {
                 System.out.printf(Locale.ROOT, "%-17s %,d ratings read, %,d written; %,d trust read, %,d written; %,d new users,"
                         + " %,d new items: %.2f s%n", round, r.ratingsRead(), r.ratingsWritten(), r.trustRead(), r.trustWritten(),
                         r.newUsers(), r.newItems(), r.took().toNanos() / 1e9);
+            }
+            for (int round = 0; round < 3; round++) {
+                long t0 = System.nanoTime();
+                Snapshot snapshot = new SnapshotReader(db).read();
+                long t1 = System.nanoTime();
+                IdDirectory ids = IdDirectory.load(db);
+                long t2 = System.nanoTime();
+                System.out.printf(Locale.ROOT, "snapshot of %,d ratings and %,d trust edges: %.2f s; ids of %,d users and %,d items: %.2f s%n",
+                        snapshot.numRatings(), snapshot.numTrustEdges(), (t1 - t0) / 1e9, ids.userIds().length, ids.itemIds().length,
+                        (t2 - t1) / 1e9);
             }
         }
     }
