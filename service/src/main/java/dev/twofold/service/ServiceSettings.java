@@ -1,5 +1,6 @@
 package dev.twofold.service;
 
+import dev.twofold.db.ConfigurationException;
 import java.time.Duration;
 import java.util.Map;
 
@@ -26,18 +27,18 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
 
     public ServiceSettings {
         if (host == null || host.isBlank() || host.chars().anyMatch(Character::isWhitespace)) {
-            throw new SettingsException(HOST_VARIABLE + "='" + host + "' is not a host name or address; use e.g. "
+            throw new ConfigurationException(HOST_VARIABLE + "='" + host + "' is not a host name or address; use e.g. "
                     + DEFAULT_HOST + " (every interface) or 127.0.0.1 (this machine only)");
         }
         if (port < 0 || port > MAX_PORT) {
-            throw new SettingsException(PORT_VARIABLE + "=" + port + " is outside 0.." + MAX_PORT
+            throw new ConfigurationException(PORT_VARIABLE + "=" + port + " is outside 0.." + MAX_PORT
                     + " (0 picks a free port)");
         }
         if (stopTimeout == null || stopTimeout.isNegative()) {
-            throw new SettingsException("stop timeout " + stopTimeout + " must be zero or positive");
+            throw new ConfigurationException("stop timeout " + stopTimeout + " must be zero or positive");
         }
         if (modelPollInterval == null || modelPollInterval.isNegative() || modelPollInterval.isZero()) {
-            throw new SettingsException("model poll interval " + modelPollInterval + " must be positive");
+            throw new ConfigurationException("model poll interval " + modelPollInterval + " must be positive");
         }
     }
 
@@ -61,7 +62,7 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
         try {
             return Integer.parseInt(value);
         } catch (NumberFormatException e) {
-            throw new SettingsException(PORT_VARIABLE + "='" + value + "' is not a port number; use 0.." + MAX_PORT
+            throw new ConfigurationException(PORT_VARIABLE + "='" + value + "' is not a port number; use 0.." + MAX_PORT
                     + " (0 picks a free port)");
         }
     }

@@ -4,6 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import dev.twofold.db.ConfigurationException;
 import dev.twofold.db.TwofoldException;
 import java.time.Duration;
 import java.util.Map;
@@ -33,7 +34,7 @@ class ServiceSettingsTest {
     @Test
     void a_bad_port_is_refused_naming_the_variable_the_value_and_the_range() {
         for (String port : new String[] {"65536", "-1", "eighty", "80.5"}) {
-            SettingsException e = assertThrows(SettingsException.class,
+            ConfigurationException e = assertThrows(ConfigurationException.class,
                     () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_PORT", port)));
             assertTrue(e.getMessage().contains("TWOFOLD_HTTP_PORT") && e.getMessage().contains(port)
                     && e.getMessage().contains("0..65535"), e.getMessage());
@@ -43,7 +44,7 @@ class ServiceSettingsTest {
 
     @Test
     void a_host_with_spaces_inside_is_refused() {
-        SettingsException e = assertThrows(SettingsException.class,
+        ConfigurationException e = assertThrows(ConfigurationException.class,
                 () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_HOST", "local host")));
         assertTrue(e.getMessage().contains("TWOFOLD_HTTP_HOST") && e.getMessage().contains("local host"),
                 e.getMessage());
