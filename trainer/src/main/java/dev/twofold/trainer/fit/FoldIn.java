@@ -174,7 +174,7 @@ public final class FoldIn {
             int dim = rank + 1;
             this.a = new double[dim * dim];
             this.c = new double[dim];
-            this.row = new double[dim];
+            this.row = new double[NormalEquations.BLOCK * dim];
         }
 
         /** Copies the solved factors p_u (k values) into {@code target[offset..offset+k)}. */

@@ -18,25 +18,42 @@ final class NormalEquations {
         Arrays.fill(c, 0, dim, 0.0);
     }
 
+    /** Ratings handled together in {@link #addRatings}: each load and store of A serves this many updates. */
+    static final int BLOCK = 4;
+
     /**
      * Adds the ratings of one row against a fixed other side F (rows of length k) with biases B:
      * A += Σ f̃ f̃ᵀ, c += Σ (r − μ − B[j]) f̃, where f̃ = (f_j, 1) with biases and f_j without.
-     * {@code row} is scratch of length ≥ k + 1. Cost (to − from)·K²/2.
+     * Ratings are taken {@value #BLOCK} at a time so each pass over A applies four rank-one updates
+     * (a fixed order of summation, so results do not depend on threads). {@code row} is scratch of
+     * length ≥ {@value #BLOCK}·(k + 1). Cost (to − from)·K²/2.
      */
     static void addRatings(double[] a, double[] c, double[] row, int k, boolean biases, float mu, float[] fixed,
             float[] fixedBias, int[] index, float[] value, int from, int to) {
         int dim = biases ? k + 1 : k;
-        for (int at = from; at < to; at++) {
-            int j = index[at];
-            int off = j * k;
-            for (int x = 0; x < k; x++) {
-                row[x] = fixed[off + x];
+        int at = from;
+        int d1 = dim;
+        int d2 = 2 * dim;
+        int d3 = 3 * dim;
+        for (; at + BLOCK <= to; at += BLOCK) {
+            double t0 = load(row, 0, k, biases, mu, fixed, fixedBias, index[at], value[at]);
+            double t1 = load(row, d1, k, biases, mu, fixed, fixedBias, index[at + 1], value[at + 1]);
+            double t2 = load(row, d2, k, biases, mu, fixed, fixedBias, index[at + 2], value[at + 2]);
+            double t3 = load(row, d3, k, biases, mu, fixed, fixedBias, index[at + 3], value[at + 3]);
+            for (int x = 0; x < dim; x++) {
+                double x0 = row[x];
+                double x1 = row[d1 + x];
+                double x2 = row[d2 + x];
+                double x3 = row[d3 + x];
+                c[x] += t0 * x0 + t1 * x1 + t2 * x2 + t3 * x3;
+                int ax = x * dim;
+                for (int y = x; y < dim; y++) {
+                    a[ax + y] += x0 * row[y] + x1 * row[d1 + y] + x2 * row[d2 + y] + x3 * row[d3 + y];
+                }
             }
-            double target = value[at];
-            if (biases) {
-                row[k] = 1.0;
-                target -= (double) mu + fixedBias[j];
-            }
+        }
+        for (; at < to; at++) {
+            double target = load(row, 0, k, biases, mu, fixed, fixedBias, index[at], value[at]);
             for (int x = 0; x < dim; x++) {
                 double rx = row[x];
                 c[x] += target * rx;
@@ -46,6 +63,20 @@ final class NormalEquations {
                 }
             }
         }
+    }
+
+    /** Copies f̃_j into row[off..off+K) and returns the target r − μ − B[j] (or r without biases). */
+    private static double load(double[] row, int off, int k, boolean biases, float mu, float[] fixed, float[] fixedBias,
+            int j, float value) {
+        int src = j * k;
+        for (int x = 0; x < k; x++) {
+            row[off + x] = fixed[src + x];
+        }
+        if (biases) {
+            row[off + k] = 1.0;
+            return value - ((double) mu + fixedBias[j]);
+        }
+        return value;
     }
 
     /**

@@ -97,14 +97,13 @@ public final class CookingCommunity {
         float[] value = new float[size];
         double[] truth = new double[size];
         long[] time = new long[size];
-        TopK picks = new TopK(Math.max(1, cap));
         int[] picked = new int[Math.max(1, cap)];
         double[] appeal = new double[n];
         int at = 0;
         for (int u = 0; u < m; u++) {
             // Cooks choose what to cook by popularity and by appeal (b_i + p_u·q_i): the recipes are
             // drawn without replacement with weight pop_i · exp(γ · appeal), by the Gumbel-top-k trick.
-            picks.clear();
+            TopK picks = new TopK(counts[u]);
             for (int i = 0; i < n; i++) {
                 double a = quality[i];
                 for (int x = 0; x < k; x++) {
