@@ -33,12 +33,14 @@ final class Problems {
     }
 
     /**
-     * Routes every exception through {@link #handle}, and turns Javalin's own 404 (no such route)
-     * and 405 (route exists, method does not) responses, which bypass exception handlers, into
-     * problems; a response that already is a problem is left alone.
+     * Routes every exception through {@link #handle} (Javalin's own {@link HttpResponseException}s
+     * reach a handler only when one is registered for that class), and turns Javalin's 404 (no
+     * such route) and 405 (route exists, method does not), which are responses rather than
+     * exceptions, into problems; a response that already is a problem is left alone.
      */
     void register(RoutesConfig routes) {
         routes.exception(Exception.class, this::handle);
+        routes.exception(HttpResponseException.class, this::handle);
         for (int status : new int[] {404, 405}) {
             routes.error(status, ctx -> {
                 String current = ctx.res().getContentType();
