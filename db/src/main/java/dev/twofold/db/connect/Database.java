@@ -41,6 +41,12 @@ public final class Database implements AutoCloseable {
     public static final long VALIDATION_TIMEOUT_MS = 3_000;
     public static final long IDLE_TIMEOUT_MS = 10 * 60_000;
     public static final long MAX_LIFETIME_MS = 30 * 60_000;
+    /**
+     * How long a closing process waits for other clients to disappear before it leaves the embedded
+     * server running for them: a process that closed a moment ago may still show its sessions.
+     */
+    public static final long OTHER_CLIENTS_GRACE_MS = 2_000;
+    static final long OTHER_CLIENTS_POLL_MS = 100;
     /** Connections kept open while idle: at least one, so a joined embedded server sees this process as a client. */
     public static final int MIN_IDLE_CONNECTIONS = 2;
 
@@ -73,10 +79,10 @@ public final class Database implements AutoCloseable {
         String applicationName = "twofold-" + ProcessHandle.current().pid() + "-" + POOLS.incrementAndGet();
         Database db;
         if (settings.embedded()) {
-            try (DataDirectoryLock lock = DataDirectoryLock.acquire(settings.dataDir())) {
-                EmbeddedServer server = EmbeddedServer.startOrJoin(settings.dataDir(), EmbeddedServer.Options.forDataDir(settings.dataDir()));
-                db = embedded(server, applicationName, settings.poolSize());
-            }
+            // Held until the pool has its first connection, so a closing process sees us as a client.
+            db = DataDirectoryLock.holding(settings.dataDir(), () -> embedded(
+                    EmbeddedServer.startOrJoin(settings.dataDir(), EmbeddedServer.Options.forDataDir(settings.dataDir())),
+                    applicationName, settings.poolSize()));
         } else {
             String where = describe(settings.url(), false);
             db = new Database(pool(settings.url(), settings.user(), settings.password(), settings.poolSize(), applicationName, where),
@@ -132,8 +138,12 @@ public final class Database implements AutoCloseable {
             runCloseActions();
             return;
         }
-        try (DataDirectoryLock lock = DataDirectoryLock.acquire(server.dataDir())) {
+        DataDirectoryLock.holding(server.dataDir(), () -> {
             long others = otherClients();
+            long deadline = System.nanoTime() + OTHER_CLIENTS_GRACE_MS * 1_000_000L;
+            while (others > 0 && System.nanoTime() < deadline && pause(OTHER_CLIENTS_POLL_MS)) {
+                others = otherClients();
+            }
             pool.close();
             runCloseActions();
             if (others == 0) {
@@ -142,6 +152,17 @@ public final class Database implements AutoCloseable {
             } else {
                 LOG.info("left {} running for {} other connection(s)", description, others);
             }
+            return null;
+        });
+    }
+
+    private static boolean pause(long ms) {
+        try {
+            Thread.sleep(ms);
+            return true;
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            return false;
         }
     }
 

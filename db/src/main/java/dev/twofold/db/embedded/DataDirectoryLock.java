@@ -54,6 +54,20 @@ public final class DataDirectoryLock implements AutoCloseable {
         }
     }
 
+    /** Runs {@code work} while holding the lock of {@code dataDir}; returns its result. */
+    public static <T> T holding(Path dataDir, java.util.function.Supplier<T> work) {
+        try (DataDirectoryLock held = acquire(dataDir)) {
+            held.requireHeld();
+            return work.get();
+        }
+    }
+
+    private void requireHeld() {
+        if (released || !lock.isValid()) {
+            throw new IllegalStateException("the data directory lock was released early");
+        }
+    }
+
     @Override
     public void close() {
         if (released) {

@@ -158,6 +158,43 @@ public final class RatingWriter {
         });
     }
 
+    /**
+     * Erases a user everywhere: ratings, trust edges in both directions, factor rows in every stored
+     * model version, and the id itself (its index is never reused). One transaction, committed
+     * before returning.
+     *
+     * @return false when no user has this id (nothing to erase)
+     */
+    public boolean forgetUser(String externalId) {
+        return inTransaction("erasing a user", c -> {
+            Integer idx = null;
+            try (PreparedStatement ps = c.prepareStatement("select idx from users where external_id = ? for update")) {
+                ps.setString(1, externalId);
+                try (var rs = ps.executeQuery()) {
+                    if (rs.next()) {
+                        idx = rs.getInt(1);
+                    }
+                }
+            }
+            if (idx == null) {
+                return false;
+            }
+            for (String sql : List.of(
+                    "delete from ratings where user_idx = ?",
+                    "delete from trust where truster_idx = ?",
+                    "delete from trust where trustee_idx = ?",
+                    "delete from model_user_factors where user_idx = ?",
+                    "delete from model_trust_factors where user_idx = ?",
+                    "delete from users where idx = ?")) {
+                try (PreparedStatement ps = c.prepareStatement(sql)) {
+                    ps.setInt(1, idx);
+                    ps.executeUpdate();
+                }
+            }
+            return true;
+        });
+    }
+
     /** Inserts the ids not yet known, in sorted order (so concurrent writers lock in the same order); returns how many. */
     private static int insertIds(Connection c, String table, String[] ids) throws SQLException {
         String[] distinct = new TreeSet<>(List.of(ids)).toArray(String[]::new);

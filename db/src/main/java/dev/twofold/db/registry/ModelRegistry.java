@@ -191,6 +191,34 @@ public final class ModelRegistry {
         });
     }
 
+    /**
+     * Deletes a version and its factors (retention). The active version and the one a rollback
+     * would return to are kept.
+     *
+     * @throws ModelStateException for the active or the previous version
+     */
+    public void delete(long modelId) {
+        inTransaction("deleting model " + modelId, c -> {
+            lockPointer(c);
+            lockedHeader(c, modelId);
+            try (Statement s = c.createStatement();
+                 ResultSet rs = s.executeQuery("select model_id, previous_model_id from active_model")) {
+                if (rs.next() && (rs.getLong(1) == modelId || rs.getLong(2) == modelId)) {
+                    throw new ModelStateException("model " + modelId + " is " + (rs.getLong(1) == modelId ? "active" : "the rollback target")
+                            + " and cannot be deleted");
+                }
+            }
+            for (String table : List.of("model_user_factors", "model_item_factors", "model_trust_factors", "models")) {
+                try (PreparedStatement ps = c.prepareStatement("delete from " + table + " where "
+                        + (table.equals("models") ? "id" : "model_id") + " = ?")) {
+                    ps.setLong(1, modelId);
+                    ps.executeUpdate();
+                }
+            }
+            return null;
+        });
+    }
+
     public Optional<ModelHeader> active() {
         return ReadOnlySnapshot.read(database, "reading the active model", (c, copy) -> {
             try (Statement s = c.createStatement(); ResultSet rs = s.executeQuery("select " + prefixed("m") + " from active_model a"

@@ -42,12 +42,13 @@ class EmbeddedServerTest {
 
     @AfterEach
     void stopLeftovers() {
-        try (DataDirectoryLock lock = DataDirectoryLock.acquire(dataDir)) {
+        DataDirectoryLock.holding(dataDir, () -> {
             EmbeddedServer.readPidFile(dataDir.resolve(EmbeddedServer.CLUSTER_DIR)).ifPresent(p -> {
                 ProcessHandle.of(p.pid()).ifPresent(ProcessHandle::destroy);
                 ProcessHandle.of(p.pid()).ifPresent(h -> h.onExit().join());
             });
-        }
+            return null;
+        });
     }
 
     @Test

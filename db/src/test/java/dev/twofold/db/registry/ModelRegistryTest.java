@@ -277,6 +277,25 @@ class ModelRegistryTest {
     }
 
     @Test
+    void deleting_removes_a_version_and_its_factors_but_never_the_active_or_rollback_one() throws SQLException {
+        long first = finished("candidate");
+        long second = finished("candidate");
+        long third = finished("rejected");
+        registry.promote(first);
+        registry.promote(second);
+        assertThrows(ModelStateException.class, () -> registry.delete(first));
+        assertThrows(ModelStateException.class, () -> registry.delete(second));
+        registry.delete(third);
+        assertEquals(Optional.empty(), registry.find(third));
+        try (Connection c = db.dataSource().getConnection(); Statement s = c.createStatement();
+             var rs = s.executeQuery("select count(*) from model_user_factors where model_id = " + third)) {
+            rs.next();
+            assertEquals(0, rs.getInt(1));
+        }
+        assertThrows(UnknownModelException.class, () -> registry.delete(third));
+    }
+
+    @Test
     void loading_an_unknown_model_says_so() {
         UnknownModelException e = assertThrows(UnknownModelException.class, () -> registry.loadFactors(424242));
         assertEquals(424242, e.modelId());

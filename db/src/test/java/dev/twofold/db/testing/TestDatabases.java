@@ -124,13 +124,14 @@ public final class TestDatabases {
         try {
             Path dataDir = Files.createTempDirectory("twofold-test-pg-");
             Path binaries = sharedBinaries();
-            EmbeddedServer embedded;
-            try (DataDirectoryLock lock = DataDirectoryLock.acquire(dataDir)) {
-                embedded = EmbeddedServer.startOrJoin(dataDir, new EmbeddedServer.Options(binaries, TEST_SERVER_SETTINGS, false));
-            }
+            EmbeddedServer embedded = DataDirectoryLock.holding(dataDir,
+                    () -> EmbeddedServer.startOrJoin(dataDir, new EmbeddedServer.Options(binaries, TEST_SERVER_SETTINGS, false)));
             Runtime.getRuntime().addShutdownHook(new Thread(() -> {
-                try (DataDirectoryLock lock = DataDirectoryLock.acquire(dataDir)) {
-                    embedded.stop();
+                try {
+                    DataDirectoryLock.holding(dataDir, () -> {
+                        embedded.stop();
+                        return null;
+                    });
                 } catch (RuntimeException e) {
                     // The JVM is exiting; a server that refuses to stop is reported by its log.
                 }
