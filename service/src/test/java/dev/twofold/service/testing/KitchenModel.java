@@ -62,8 +62,13 @@ public final class KitchenModel {
     }
 
     public static ServingModel build() {
-        return ServingModel.assemble(header(), factors(), new IdDirectory(USER_IDS.clone(), ITEM_IDS.clone()),
-                RATING_USER.clone(), RATING_ITEM.clone());
+        return build(MODEL_ID);
+    }
+
+    /** The same model under another version id. */
+    public static ServingModel build(long id) {
+        return ServingModel.assemble(header(id, K, TRAINED_USERS, TRAINED_ITEMS, MU, SCALE_MIN, SCALE_MAX), factors(),
+                new IdDirectory(USER_IDS.clone(), ITEM_IDS.clone()), RATING_USER.clone(), RATING_ITEM.clone());
     }
 
     public static ModelHeader header() {

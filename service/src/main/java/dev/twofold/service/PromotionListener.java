@@ -1,0 +1,118 @@
+package dev.twofold.service;
+
+import dev.twofold.db.connect.Database;
+import dev.twofold.db.registry.ModelRegistry;
+import java.sql.Connection;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.time.Duration;
+import java.util.Objects;
+import org.postgresql.PGConnection;
+import org.postgresql.PGNotification;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * Hears promotions as they commit: holds one connection of the pool in {@code LISTEN}
+ * {@value ModelRegistry#NOTIFY_CHANNEL} (the registry sends {@code NOTIFY} with the new model id on
+ * every promotion and rollback) and calls {@code onPromotion} for each batch of notifications.
+ * It also calls it after every (re)connect, since a promotion may have happened while it was not
+ * listening.
+ *
+ * <p>If the connection breaks it reconnects every {@code retry}; the watcher's polling covers the
+ * gap. Before the connection goes back to the pool it stops listening ({@code UNLISTEN *}), so no
+ * other user of the pool collects notifications.
+ */
+final class PromotionListener implements AutoCloseable {
+
+    private static final Logger LOG = LoggerFactory.getLogger(PromotionListener.class);
+    /** Longest a wait for notifications blocks, which bounds how long close() waits. */
+    static final int WAIT_MS = 500;
+
+    private final Database database;
+    private final Runnable onPromotion;
+    private final Duration retry;
+    private final Thread thread;
+    private volatile boolean closed;
+    private String lastProblem;
+
+    PromotionListener(Database database, Runnable onPromotion, Duration retry) {
+        this.database = database;
+        this.onPromotion = onPromotion;
+        this.retry = retry;
+        this.thread = new Thread(this::run, "twofold-promotion-listener");
+        this.thread.setDaemon(true);
+    }
+
+    void start() {
+        thread.start();
+    }
+
+    private void run() {
+        while (!closed) {
+            try (Connection c = database.dataSource().getConnection()) {
+                try {
+                    listen(c);
+                } finally {
+                    if (!c.isClosed()) {
+                        try (Statement s = c.createStatement()) {
+                            s.execute("UNLISTEN *");
+                        }
+                    }
+                }
+            } catch (SQLException | RuntimeException e) {
+                if (closed) {
+                    return;
+                }
+                String problem = "not listening for promotions (" + e.getMessage() + "); retrying every "
+                        + retry.toMillis() + " ms, polling meanwhile";
+                if (!Objects.equals(problem, lastProblem)) {
+                    LOG.warn(problem);
+                    lastProblem = problem;
+                }
+                pause();
+            }
+        }
+    }
+
+    private void listen(Connection c) throws SQLException {
+        c.setAutoCommit(true);
+        try (Statement s = c.createStatement()) {
+            s.execute("LISTEN " + ModelRegistry.NOTIFY_CHANNEL);
+        }
+        if (lastProblem != null) {
+            LOG.info("listening for promotions again");
+            lastProblem = null;
+        }
+        PGConnection pg = c.unwrap(PGConnection.class);
+        onPromotion.run();
+        while (!closed) {
+            PGNotification[] notes = pg.getNotifications(WAIT_MS);
+            if (notes != null && notes.length > 0) {
+                LOG.debug("promotion of model {} announced", notes[notes.length - 1].getParameter());
+                onPromotion.run();
+            }
+        }
+    }
+
+    private void pause() {
+        try {
+            Thread.sleep(retry.toMillis());
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            closed = true;
+        }
+    }
+
+    /** Stops listening and returns the connection; waits at most a little over {@value #WAIT_MS} ms. Safe twice. */
+    @Override
+    public void close() {
+        closed = true;
+        thread.interrupt();
+        try {
+            thread.join(WAIT_MS * 4L);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+}
