@@ -13,7 +13,9 @@ import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.time.Instant;
 import java.util.ArrayList;
+import java.util.HashSet;
 import java.util.List;
+import java.util.Set;
 
 /**
  * The bodies of {@code POST /v1/ratings} and {@code POST /v1/trust}: a JSON array of rows with the
@@ -40,9 +42,11 @@ final class WriteBatch {
             Double rating = null;
             Instant time = null;
             boolean ok = true;
+            Set<String> present = new HashSet<>();
             while (json.nextToken() == JsonToken.FIELD_NAME) {
                 String field = json.currentName();
                 JsonToken value = json.nextToken();
+                present.add(field);
                 try {
                     switch (field) {
                         case "user" -> user = id(json, value, "user");
@@ -60,8 +64,8 @@ final class WriteBatch {
                     ok = false;
                 }
             }
-            ok &= require(problems, index, user, "user") & require(problems, index, item, "item")
-                    & require(problems, index, rating, "rating");
+            ok &= require(problems, index, present, "user") & require(problems, index, present, "item")
+                    & require(problems, index, present, "rating");
             if (ok) {
                 rows.add(new RatingInput(user, item, rating, time));
             }
@@ -77,9 +81,11 @@ final class WriteBatch {
             String trustee = null;
             double weight = TrustInput.DEFAULT_WEIGHT;
             boolean ok = true;
+            Set<String> present = new HashSet<>();
             while (json.nextToken() == JsonToken.FIELD_NAME) {
                 String field = json.currentName();
                 JsonToken value = json.nextToken();
+                present.add(field);
                 try {
                     switch (field) {
                         case "truster" -> truster = id(json, value, "truster");
@@ -97,7 +103,7 @@ final class WriteBatch {
                     ok = false;
                 }
             }
-            ok &= require(problems, index, truster, "truster") & require(problems, index, trustee, "trustee");
+            ok &= require(problems, index, present, "truster") & require(problems, index, present, "trustee");
             if (ok) {
                 try {
                     FieldRules.notSelfTrust(truster, trustee);
@@ -186,8 +192,9 @@ final class WriteBatch {
         };
     }
 
-    private static boolean require(Problems problems, int index, Object value, String field) {
-        if (value == null) {
+    /** Reports a required field that the row does not have at all (a present but invalid one is reported already). */
+    private static boolean require(Problems problems, int index, Set<String> present, String field) {
+        if (!present.contains(field)) {
             problems.add(index, field + " is missing");
             return false;
         }

@@ -16,6 +16,15 @@ interface BlockKernel {
 
     void dot(float[] panels, int k, int fromPanel, int toPanel, float[] x, int users, float[] out);
 
+    /**
+     * The items whose score beats a threshold: every i in {@code [first, last)} with
+     * {@code s_i > threshold}, where s_i = {@code out[offset + i] + perItem[i]}, or
+     * {@code out[offset + i] · perItem[i]} when {@code multiply}, written to {@code candidates} in
+     * increasing order; returns how many. {@code first} is a multiple of the panel width.
+     */
+    int above(float[] out, int offset, float[] perItem, boolean multiply, int first, int last, float threshold,
+            int[] candidates);
+
     /** What the kernel runs on, for the start-up log and the benchmark. */
     String description();
 }

@@ -33,6 +33,19 @@ final class ScalarBlockKernel implements BlockKernel {
     }
 
     @Override
+    public int above(float[] out, int offset, float[] perItem, boolean multiply, int first, int last, float threshold,
+            int[] candidates) {
+        int n = 0;
+        for (int i = first; i < last; i++) {
+            float s = multiply ? out[offset + i] * perItem[i] : out[offset + i] + perItem[i];
+            if (s > threshold) {
+                candidates[n++] = i;
+            }
+        }
+        return n;
+    }
+
+    @Override
     public String description() {
         return "scalar Java loops (start the JVM with --add-modules jdk.incubator.vector for the SIMD kernel)";
     }

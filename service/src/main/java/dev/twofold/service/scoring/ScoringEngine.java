@@ -199,7 +199,8 @@ public final class ScoringEngine {
             int last = Math.min(to * ItemPanels.WIDTH, n);
             for (int b = 0; b < size; b++) {
                 Job job = s.batch[b];
-                keepBest(job, s.best[b], s.out, b * stride - first, first, last, job.cosine ? inverseNorms : bias);
+                keepBest(job, s.best[b], s.out, b * stride - first, first, last, job.cosine ? inverseNorms : bias,
+                        s.candidates);
             }
         }
         for (int b = 0; b < size; b++) {
@@ -214,27 +215,20 @@ public final class ScoringEngine {
     }
 
     /**
-     * Offers items {@code first..last} of a block to the job's heap: score = dot + bias[i], or
-     * dot · inverseNorm[i] for cosine jobs. Items arrive in increasing index order, so an item
-     * whose score only equals the heap's worst can never displace it (ties go to the lower index).
+     * Offers the items {@code first..last} of a block to the job's heap: score = dot + b_i, or
+     * dot · 1/‖q_i‖ for cosine jobs. The kernel first picks the items that beat the heap's
+     * threshold as it stood at the start of the block (a superset of those that can enter); only
+     * those are offered, after the skip check. Items arrive in increasing index order, so one whose
+     * score only equals the heap's worst never displaces it (ties go to the lower index).
      */
-    private static void keepBest(Job job, TopK best, float[] out, int offset, int first, int last, float[] perItem) {
-        float threshold = best.threshold();
-        if (job.cosine) {
-            for (int i = first; i < last; i++) {
-                float score = out[offset + i] * perItem[i];
-                if (score > threshold && !job.skips(i)) {
-                    best.offer(i, score);
-                    threshold = best.threshold();
-                }
-            }
-        } else {
-            for (int i = first; i < last; i++) {
-                float score = out[offset + i] + perItem[i];
-                if (score > threshold && !job.skips(i)) {
-                    best.offer(i, score);
-                    threshold = best.threshold();
-                }
+    private void keepBest(Job job, TopK best, float[] out, int offset, int first, int last, float[] perItem,
+            int[] candidates) {
+        int found = kernel.above(out, offset, perItem, job.cosine, first, last, best.threshold(), candidates);
+        for (int c = 0; c < found; c++) {
+            int i = candidates[c];
+            float score = job.cosine ? out[offset + i] * perItem[i] : out[offset + i] + perItem[i];
+            if (score > best.threshold() && !job.skips(i)) {
+                best.offer(i, score);
             }
         }
     }
@@ -282,6 +276,7 @@ public final class ScoringEngine {
         final TopK[] best = new TopK[MAX_BATCH];
         float[] x = new float[0];
         float[] out = new float[0];
+        final int[] candidates = new int[BLOCK_PANELS * ItemPanels.WIDTH];
 
         Scratch() {
             for (int b = 0; b < MAX_BATCH; b++) {

@@ -2,6 +2,7 @@ package dev.twofold.service.scoring;
 
 import dev.twofold.service.model.ItemPanels;
 import jdk.incubator.vector.FloatVector;
+import jdk.incubator.vector.VectorOperators;
 import jdk.incubator.vector.VectorSpecies;
 
 /**
@@ -104,6 +105,31 @@ final class VectorBlockKernel implements BlockKernel {
             a.intoArray(out, at);
             b.intoArray(out, at + L);
         }
+    }
+
+    /** Eight items per compare; only the lanes that beat the threshold are looked at one by one. */
+    @Override
+    public int above(float[] out, int offset, float[] perItem, boolean multiply, int first, int last, float threshold,
+            int[] candidates) {
+        int n = 0;
+        int i = first;
+        for (; i + L <= last; i += L) {
+            FloatVector dot = FloatVector.fromArray(S, out, offset + i);
+            FloatVector per = FloatVector.fromArray(S, perItem, i);
+            FloatVector s = multiply ? dot.mul(per) : dot.add(per);
+            long beat = s.compare(VectorOperators.GT, threshold).toLong();
+            while (beat != 0) {
+                candidates[n++] = i + Long.numberOfTrailingZeros(beat);
+                beat &= beat - 1;
+            }
+        }
+        for (; i < last; i++) {
+            float s = multiply ? out[offset + i] * perItem[i] : out[offset + i] + perItem[i];
+            if (s > threshold) {
+                candidates[n++] = i;
+            }
+        }
+        return n;
     }
 
     @Override
