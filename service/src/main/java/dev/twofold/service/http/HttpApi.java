@@ -56,6 +56,7 @@ public final class HttpApi {
 
     private static final String OPENAPI_RESOURCE = "openapi.yaml";
     private static final String YAML = "application/yaml";
+    private static final String ROLLBACK = "rollback";
 
     private final Supplier<LiveModel> live;
     private final Ranker ranker;
@@ -141,7 +142,7 @@ public final class HttpApi {
         config.routes.get("/v1/models", this::listModels, Role.ADMIN);
         config.routes.get("/v1/models/{id}", this::showModel, Role.ADMIN);
         config.routes.post("/v1/models/{id}/promote", this::promote, Role.ADMIN);
-        config.routes.post("/v1/models/rollback", this::rollback, Role.ADMIN);
+        config.routes.post("/v1/models/" + ROLLBACK, this::rollback, Role.ADMIN);
         config.routes.get("/health/live", this::live);
         config.routes.get("/health/ready", this::ready);
         config.routes.get("/openapi.yaml", ctx -> ctx.contentType(YAML).result(openApi));
@@ -275,6 +276,11 @@ public final class HttpApi {
     }
 
     private void showModel(Context ctx) {
+        if (ROLLBACK.equals(ctx.pathParam("id"))) {
+            // /v1/models/rollback is an action, not a version: only POST is defined there
+            throw new ProblemException(ProblemType.METHOD_NOT_ALLOWED, ctx.method() + " is not allowed on "
+                    + ctx.path() + "; POST it to roll back", Map.of("Allow", "POST"));
+        }
         long id = modelId(ctx);
         ModelHeader h = requireModels().find(id).orElseThrow(() -> noSuchModel(id));
         JsonOutput.send(ctx, 200, JsonOutput.JSON, json -> writeModel(json, h));
