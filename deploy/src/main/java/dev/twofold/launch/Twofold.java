@@ -2,6 +2,12 @@ package dev.twofold.launch;
 
 import dev.twofold.db.BadInputException;
 import dev.twofold.db.TwofoldException;
+import dev.twofold.db.access.KeysCommand;
+import dev.twofold.db.ingest.ImportCommand;
+import dev.twofold.db.ingest.UsersCommand;
+import dev.twofold.service.ServeCommand;
+import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.publish.TrainCommand;
 import java.io.PrintWriter;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
@@ -17,6 +23,13 @@ import picocli.CommandLine.Command;
         versionProvider = Twofold.Version.class,
         description = "Recommendations from ratings coupled with trust: import, train, serve.",
         subcommands = {
+            ServeCommand.class,
+            ImportCommand.class,
+            TrainCommand.class,
+            DemoDataCommand.class,
+            DemoCommand.class,
+            KeysCommand.class,
+            UsersCommand.class,
             CommandLine.HelpCommand.class,
         })
 public final class Twofold {
@@ -39,7 +52,6 @@ public final class Twofold {
             cli.addSubcommand(spec.name(), sub);
         }
         cli.setExecutionExceptionHandler(Twofold::onFailure);
-        cli.setExitCodeExceptionMapper(e -> e instanceof TwofoldException t ? t.exitCode() : TwofoldException.EXIT_SOFTWARE);
         return cli;
     }
 
