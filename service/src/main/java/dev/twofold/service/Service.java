@@ -27,7 +27,8 @@ import org.slf4j.LoggerFactory;
  * <p>With a database, the service also takes ratings and trust edges (committed, then folded in),
  * offers the model admin routes, and follows the active model: at {@link #start()} it loads the
  * active model if there is one, then switches whenever a promotion or rollback is announced
- * (PostgreSQL {@code LISTEN}) or found by polling every {@link ServiceSettings#modelPollInterval()}.
+ * (PostgreSQL {@code LISTEN}) or found by polling every {@link ServiceSettings#modelPollInterval()};
+ * a user erased by any process is dropped from memory when the erasure is announced.
  *
  * <p>Lifecycle: construct, {@link #start()} once, {@link #close()} (safe to call again, and
  * without a start). Closing stops following models, stops accepting connections and lets
@@ -42,7 +43,7 @@ public final class Service implements AutoCloseable {
     private final LiveModels live;
     private final Ranker ranker = new Ranker();
     private final ModelWatcher watcher;
-    private final PromotionListener listener;
+    private final DatabaseNotifications listener;
     private final HttpApi http;
     private final Object lifecycle = new Object();
     private boolean started;
@@ -73,8 +74,8 @@ public final class Service implements AutoCloseable {
         this.settings = settings;
         this.live = new LiveModels(settings.freshUsers());
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
-        this.listener = database == null || watcher == null ? null
-                : new PromotionListener(database, watcher::checkSoon, settings.modelPollInterval());
+        this.listener = database == null ? null : new DatabaseNotifications(database,
+                watcher == null ? () -> { } : watcher::checkSoon, live::forget, settings.modelPollInterval());
         Intake intake = database == null ? null : new Intake(database, live);
         RegistryControl control = database == null ? null
                 : new RegistryControl(new ModelRegistry(database), watcher == null ? () -> { } : watcher::checkSoon);

@@ -7,7 +7,9 @@ import java.time.Clock;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
 import java.util.Optional;
+import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
 
@@ -76,7 +78,7 @@ public final class LiveModels {
             LiveModel old = current.get();
             if (old == null) {
                 synchronized (writes) {
-                    current.set(new LiveModel(next, new FreshUsers(capacity)));
+                    current.set(new LiveModel(next, new FreshUsers(capacity), new ConcurrentHashMap<>()));
                 }
                 return Optional.empty();
             }
@@ -95,7 +97,17 @@ public final class LiveModels {
                         rebased.put(refold(next, user, scratch));
                     }
                 }
-                current.set(new LiveModel(next, rebased));
+                // the new model may have been read before a recent erasure committed: keep those
+                Map<String, Long> erased = new ConcurrentHashMap<>();
+                old.erased().forEach((id, at) -> {
+                    if (at >= cutoff) {
+                        erased.put(id, at);
+                    }
+                });
+                for (String id : erased.keySet()) {
+                    rebased.remove(id);
+                }
+                current.set(new LiveModel(next, rebased, erased));
             }
             return Optional.of(old.model());
         }
@@ -131,10 +143,25 @@ public final class LiveModels {
                 }
             }
             for (FreshUser user : made) {
+                target.erased().remove(user.userId()); // written again after an erasure: a new user
                 target.fresh().put(target == live ? user : refold(target.model(), user, scratch));
             }
         }
         return made.size();
+    }
+
+    /**
+     * Drops a user whose data was erased (by this or another process): their fresh state goes, and
+     * until the next model load they are served as someone nobody knows.
+     */
+    public void forget(String userId) {
+        synchronized (writes) {
+            LiveModel live = current.get();
+            if (live != null) {
+                live.fresh().remove(userId);
+                live.erased().put(userId, clock.millis());
+            }
+        }
     }
 
     private static FreshUser refold(ServingModel model, FreshUser user, FoldIn.Scratch scratch) {

@@ -8,6 +8,8 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import dev.twofold.db.connect.Database;
+import dev.twofold.db.ingest.RatingScale;
+import dev.twofold.db.ingest.RatingWriter;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
@@ -26,6 +28,7 @@ import java.sql.SQLException;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.concurrent.TimeUnit;
 import org.ejml.data.DMatrixRMaj;
 import org.ejml.dense.row.factory.LinearSolverFactory_DDRM;
 import org.ejml.interfaces.linsol.LinearSolverDense;
@@ -41,6 +44,8 @@ class FoldInTest {
      * rounding of values of order 1 and of the fixed factors both solves read.
      */
     private static final double FOLD_TOLERANCE = 1e-5;
+    /** Erasures are announced like promotions; polling is off here, so this bound is the notification's. */
+    private static final long ANNOUNCED_WITHIN_SECONDS = 5;
 
     private static Database db;
     private static Service service;
@@ -119,6 +124,22 @@ class FoldInTest {
         List<String> got = items(recs);
         assertFalse(got.contains("cake-3") || got.contains("cake-4") || got.contains("stew-3"), got.toString());
         assertTrue(TwoTastes.isCake(got.get(0)), "a baker's best guess is a cake: " + got);
+    }
+
+    @Test
+    void a_user_erased_by_another_process_is_forgotten_by_the_running_service() throws InterruptedException {
+        String cook = TwoTastes.sweetCook(7);
+        assertEquals("model", ApiClient.json(api.get("/v1/users/" + cook + "/recommendations")).path("strategy")
+                .asText());
+        assertTrue(new RatingWriter(db, RatingScale.DEFAULT).forgetUser(cook));
+        long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(ANNOUNCED_WITHIN_SECONDS);
+        JsonNode recs;
+        do {
+            Thread.sleep(10);
+            recs = ApiClient.json(api.get("/v1/users/" + cook + "/recommendations?count=1000"));
+        } while (!recs.path("strategy").asText().equals("popular") && System.nanoTime() < deadline);
+        assertEquals("popular", recs.path("strategy").asText(), "served as someone nobody knows");
+        assertEquals(service.live().model().numItems(), recs.path("items").size(), "nothing of theirs is excluded");
     }
 
     /**

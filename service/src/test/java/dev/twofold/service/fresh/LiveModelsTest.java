@@ -81,6 +81,27 @@ class LiveModelsTest {
     }
 
     @Test
+    void an_erased_user_is_served_as_unknown_until_a_model_loaded_after_the_erasure() {
+        TestClock clock = new TestClock();
+        LiveModels live = new LiveModels(10, clock);
+        live.install(KitchenModel.build(1, JANUARY, 1f));
+        live.foldIn(List.of(ana(1f)));
+        clock.now = Instant.parse("2026-02-01T00:00:00Z");
+        live.forget("ana");
+        live.forget("cy");
+        assertNull(live.current().fresh().get("ana"));
+        for (String id : new String[] {"ana", "cy"}) {
+            UserVector erased = live.current().user(id);
+            assertEquals(Strategy.POPULAR, erased.strategy());
+            assertEquals(0, erased.ratedTo() - erased.ratedFrom(), "nothing of theirs is kept");
+        }
+        live.install(KitchenModel.build(2, Instant.parse("2026-02-01T00:03:00Z"), 1f));
+        assertEquals(Strategy.POPULAR, live.current().user("cy").strategy(), "that model may predate the erasure");
+        live.install(KitchenModel.build(3, Instant.parse("2026-03-01T00:00:00Z"), 1f));
+        assertEquals(Strategy.MODEL, live.current().user("cy").strategy(), "a later model knows what is stored");
+    }
+
+    @Test
     void beyond_the_capacity_the_user_folded_longest_ago_is_dropped() {
         LiveModels live = new LiveModels(2, new TestClock());
         live.install(KitchenModel.build());

@@ -1,46 +1,51 @@
 package dev.twofold.service;
 
 import dev.twofold.db.connect.Database;
+import dev.twofold.db.ingest.RatingWriter;
 import dev.twofold.db.registry.ModelRegistry;
 import java.sql.Connection;
 import java.sql.SQLException;
 import java.sql.Statement;
 import java.time.Duration;
 import java.util.Objects;
+import java.util.function.Consumer;
 import org.postgresql.PGConnection;
 import org.postgresql.PGNotification;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * Hears promotions as they commit: holds one connection of the pool in {@code LISTEN}
- * {@value ModelRegistry#NOTIFY_CHANNEL} (the registry sends {@code NOTIFY} with the new model id on
- * every promotion and rollback) and calls {@code onPromotion} for each batch of notifications.
- * It also calls it after every (re)connect, since a promotion may have happened while it was not
- * listening.
+ * Hears what other processes announce as it commits: holds one connection of the pool in
+ * {@code LISTEN} on {@value ModelRegistry#NOTIFY_CHANNEL} (the registry sends the new model id on
+ * every promotion and rollback) and on {@value RatingWriter#ERASURE_CHANNEL} (a user was erased;
+ * the payload is their id). Promotions call {@code onPromotion} once per batch of notifications,
+ * and once after every (re)connect, since a promotion may have happened while it was not
+ * listening; erasures call {@code onErasure} with the id.
  *
  * <p>If the connection breaks it reconnects every {@code retry}; the watcher's polling covers the
  * gap. Before the connection goes back to the pool it stops listening ({@code UNLISTEN *}), so no
  * other user of the pool collects notifications.
  */
-final class PromotionListener implements AutoCloseable {
+final class DatabaseNotifications implements AutoCloseable {
 
-    private static final Logger LOG = LoggerFactory.getLogger(PromotionListener.class);
+    private static final Logger LOG = LoggerFactory.getLogger(DatabaseNotifications.class);
     /** Longest a wait for notifications blocks, which bounds how long close() waits. */
     static final int WAIT_MS = 500;
 
     private final Database database;
     private final Runnable onPromotion;
+    private final Consumer<String> onErasure;
     private final Duration retry;
     private final Thread thread;
     private volatile boolean closed;
     private String lastProblem;
 
-    PromotionListener(Database database, Runnable onPromotion, Duration retry) {
+    DatabaseNotifications(Database database, Runnable onPromotion, Consumer<String> onErasure, Duration retry) {
         this.database = database;
         this.onPromotion = onPromotion;
+        this.onErasure = onErasure;
         this.retry = retry;
-        this.thread = new Thread(this::run, "twofold-promotion-listener");
+        this.thread = new Thread(this::run, "twofold-notifications");
         this.thread.setDaemon(true);
     }
 
@@ -64,7 +69,7 @@ final class PromotionListener implements AutoCloseable {
                 if (closed) {
                     return;
                 }
-                String problem = "not listening for promotions (" + e.getMessage() + "); retrying every "
+                String problem = "not listening for promotions and erasures (" + e.getMessage() + "); retrying every "
                         + retry.toMillis() + " ms, polling meanwhile";
                 if (!Objects.equals(problem, lastProblem)) {
                     LOG.warn(problem);
@@ -79,17 +84,28 @@ final class PromotionListener implements AutoCloseable {
         c.setAutoCommit(true);
         try (Statement s = c.createStatement()) {
             s.execute("LISTEN " + ModelRegistry.NOTIFY_CHANNEL);
+            s.execute("LISTEN " + RatingWriter.ERASURE_CHANNEL);
         }
         if (lastProblem != null) {
-            LOG.info("listening for promotions again");
+            LOG.info("listening for promotions and erasures again");
             lastProblem = null;
         }
         PGConnection pg = c.unwrap(PGConnection.class);
         onPromotion.run();
         while (!closed) {
             PGNotification[] notes = pg.getNotifications(WAIT_MS);
-            if (notes != null && notes.length > 0) {
-                LOG.debug("promotion of model {} announced", notes[notes.length - 1].getParameter());
+            if (notes == null) {
+                continue;
+            }
+            boolean promoted = false;
+            for (PGNotification note : notes) {
+                if (RatingWriter.ERASURE_CHANNEL.equals(note.getName())) {
+                    onErasure.accept(note.getParameter());
+                } else {
+                    promoted = true;
+                }
+            }
+            if (promoted) {
                 onPromotion.run();
             }
         }
