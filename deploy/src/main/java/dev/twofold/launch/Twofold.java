@@ -5,6 +5,7 @@ import dev.twofold.db.TwofoldException;
 import dev.twofold.db.access.KeysCommand;
 import dev.twofold.db.ingest.ImportCommand;
 import dev.twofold.db.ingest.UsersCommand;
+import dev.twofold.service.ModelsCommand;
 import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
 import dev.twofold.trainer.publish.TrainCommand;
@@ -24,6 +25,7 @@ import picocli.CommandLine.Command;
         description = "Recommendations from ratings coupled with trust: import, train, serve.",
         subcommands = {
             ServeCommand.class,
+            ModelsCommand.class,
             ImportCommand.class,
             TrainCommand.class,
             DemoDataCommand.class,

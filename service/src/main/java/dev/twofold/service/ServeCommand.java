@@ -26,6 +26,7 @@ import picocli.CommandLine.Command;
             "  TWOFOLD_FRESH_USERS most users kept folded in between model loads (default "
                     + ServiceSettings.DEFAULT_FRESH_USERS + ")",
             "  TWOFOLD_DB_URL, TWOFOLD_DB_USER, TWOFOLD_DB_PASSWORD, TWOFOLD_DATA_DIR   the database",
+            "  JAVA_OPTS           include --add-modules jdk.incubator.vector for the SIMD scoring kernel",
             "The API is described by GET /openapi.yaml."
         })
 public final class ServeCommand implements Callable<Integer> {

@@ -109,7 +109,12 @@ public final class Service implements AutoCloseable {
                         + " (" + e.getMessage() + "); free the port or set " + ServiceSettings.PORT_VARIABLE + "/"
                         + ServiceSettings.HOST_VARIABLE, e);
             }
-            LOG.info("scoring with {}", ranker.engine().description());
+            if (ranker.engine().simd()) {
+                LOG.info("scoring with {}", ranker.engine().description());
+            } else {
+                LOG.warn("scoring with {}; ranking is several times slower without the SIMD kernel",
+                        ranker.engine().description());
+            }
             if (watcher != null) {
                 watcher.start();
             }

@@ -64,6 +64,11 @@ public final class ScoringEngine {
         }
     }
 
+    /** Whether the SIMD kernel is in use (the JVM resolved {@code jdk.incubator.vector}). */
+    public boolean simd() {
+        return kernel instanceof VectorBlockKernel;
+    }
+
     /** What scores the items: the kernel in use, for the start-up log. */
     public String description() {
         return kernel.description() + ", up to " + MAX_BATCH + " requests per pass over Q, " + combiners
