@@ -3,6 +3,7 @@ package dev.twofold.service;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.ingest.RatingWriter;
 import dev.twofold.db.registry.ModelRegistry;
+import dev.twofold.service.fresh.Intake;
 import java.sql.Connection;
 import java.sql.SQLException;
 import java.sql.Statement;
@@ -17,10 +18,11 @@ import org.slf4j.LoggerFactory;
 /**
  * Hears what other processes announce as it commits: holds one connection of the pool in
  * {@code LISTEN} on {@value ModelRegistry#NOTIFY_CHANNEL} (the registry sends the new model id on
- * every promotion and rollback) and on {@value RatingWriter#ERASURE_CHANNEL} (a user was erased;
- * the payload is their id). Promotions call {@code onPromotion} once per batch of notifications,
- * and once after every (re)connect, since a promotion may have happened while it was not
- * listening; erasures call {@code onErasure} with the id.
+ * every promotion and rollback), on {@value RatingWriter#ERASURE_CHANNEL} (a user was erased;
+ * the payload is their id) and on {@value Intake#WRITES_CHANNEL} (users wrote through some
+ * service). Promotions call {@code onPromotion} once per batch of notifications, and once after
+ * every (re)connect, since a promotion may have happened while it was not listening; erasures
+ * call {@code onErasure} with the id; writes call {@code onWrite} with the payload.
  *
  * <p>If the connection breaks it reconnects every {@code retry}; the watcher's polling covers the
  * gap. Before the connection goes back to the pool it stops listening ({@code UNLISTEN *}), so no
@@ -35,15 +37,18 @@ final class DatabaseNotifications implements AutoCloseable {
     private final Database database;
     private final Runnable onPromotion;
     private final Consumer<String> onErasure;
+    private final Consumer<String> onWrite;
     private final Duration retry;
     private final Thread thread;
     private volatile boolean closed;
     private String lastProblem;
 
-    DatabaseNotifications(Database database, Runnable onPromotion, Consumer<String> onErasure, Duration retry) {
+    DatabaseNotifications(Database database, Runnable onPromotion, Consumer<String> onErasure,
+            Consumer<String> onWrite, Duration retry) {
         this.database = database;
         this.onPromotion = onPromotion;
         this.onErasure = onErasure;
+        this.onWrite = onWrite;
         this.retry = retry;
         this.thread = new Thread(this::run, "twofold-notifications");
         this.thread.setDaemon(true);
@@ -69,7 +74,7 @@ final class DatabaseNotifications implements AutoCloseable {
                 if (closed) {
                     return;
                 }
-                String problem = "not listening for promotions and erasures (" + e.getMessage() + "); retrying every "
+                String problem = "not listening for promotions, erasures and writes (" + e.getMessage() + "); retrying every "
                         + retry.toMillis() + " ms, polling meanwhile";
                 if (!Objects.equals(problem, lastProblem)) {
                     LOG.warn(problem);
@@ -85,9 +90,10 @@ final class DatabaseNotifications implements AutoCloseable {
         try (Statement s = c.createStatement()) {
             s.execute("LISTEN " + ModelRegistry.NOTIFY_CHANNEL);
             s.execute("LISTEN " + RatingWriter.ERASURE_CHANNEL);
+            s.execute("LISTEN " + Intake.WRITES_CHANNEL);
         }
         if (lastProblem != null) {
-            LOG.info("listening for promotions and erasures again");
+            LOG.info("listening for promotions, erasures and writes again");
             lastProblem = null;
         }
         PGConnection pg = c.unwrap(PGConnection.class);
@@ -101,6 +107,8 @@ final class DatabaseNotifications implements AutoCloseable {
             for (PGNotification note : notes) {
                 if (RatingWriter.ERASURE_CHANNEL.equals(note.getName())) {
                     onErasure.accept(note.getParameter());
+                } else if (Intake.WRITES_CHANNEL.equals(note.getName())) {
+                    onWrite.accept(note.getParameter());
                 } else {
                     promoted = true;
                 }

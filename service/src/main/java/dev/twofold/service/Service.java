@@ -14,6 +14,11 @@ import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Ranker;
 import java.util.List;
 import java.util.Optional;
+import java.util.UUID;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.RejectedExecutionException;
+import java.util.concurrent.TimeUnit;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -28,7 +33,8 @@ import org.slf4j.LoggerFactory;
  * offers the model admin routes, and follows the active model: at {@link #start()} it loads the
  * active model if there is one, then switches whenever a promotion or rollback is announced
  * (PostgreSQL {@code LISTEN}) or found by polling every {@link ServiceSettings#modelPollInterval()};
- * a user erased by any process is dropped from memory when the erasure is announced.
+ * a user erased by any process is dropped from memory when the erasure is announced, and users
+ * who wrote through another service on the same database are folded in here too.
  *
  * <p>Lifecycle: construct, {@link #start()} once, {@link #close()} (safe to call again, and
  * without a start). Closing stops following models, stops accepting connections and lets
@@ -38,6 +44,7 @@ import org.slf4j.LoggerFactory;
 public final class Service implements AutoCloseable {
 
     private static final Logger LOG = LoggerFactory.getLogger(Service.class);
+    private static final long CLOSE_WAIT_MS = 5_000;
 
     private final ServiceSettings settings;
     private final LiveModels live;
@@ -45,6 +52,11 @@ public final class Service implements AutoCloseable {
     private final ModelWatcher watcher;
     private final DatabaseNotifications listener;
     private final HttpApi http;
+    private final ExecutorService refresher = Executors.newSingleThreadExecutor(task -> {
+        Thread t = new Thread(task, "twofold-refresh");
+        t.setDaemon(true);
+        return t;
+    });
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
@@ -74,9 +86,10 @@ public final class Service implements AutoCloseable {
         this.settings = settings;
         this.live = new LiveModels(settings.freshUsers());
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
+        Intake intake = database == null ? null : new Intake(database, live, origin());
         this.listener = database == null ? null : new DatabaseNotifications(database,
-                watcher == null ? () -> { } : watcher::checkSoon, live::forget, settings.modelPollInterval());
-        Intake intake = database == null ? null : new Intake(database, live);
+                watcher == null ? () -> { } : watcher::checkSoon, live::forget, payload -> refreshLater(intake, payload),
+                settings.modelPollInterval());
         RegistryControl control = database == null ? null
                 : new RegistryControl(new ModelRegistry(database), watcher == null ? () -> { } : watcher::checkSoon);
         this.http = new HttpApi(live::current, ranker, intake, control, access, observer, settings.stopTimeout(),
@@ -152,6 +165,23 @@ public final class Service implements AutoCloseable {
         return http.routes();
     }
 
+    /** Folds in, off the listener's thread, the users another service announced as written. */
+    private void refreshLater(Intake intake, String payload) {
+        List<String> users = intake.announcedByOthers(payload);
+        if (!users.isEmpty()) {
+            try {
+                refresher.execute(() -> intake.refresh(users));
+            } catch (RejectedExecutionException e) {
+                // closing
+            }
+        }
+    }
+
+    /** This process and service, for telling its own write announcements from others'. */
+    private static String origin() {
+        return ProcessHandle.current().pid() + "-" + UUID.randomUUID();
+    }
+
     /** Stops gracefully; later calls do nothing. */
     @Override
     public void close() {
@@ -165,6 +195,14 @@ public final class Service implements AutoCloseable {
             }
             if (watcher != null) {
                 watcher.close();
+            }
+            refresher.shutdownNow();
+            try {
+                if (!refresher.awaitTermination(CLOSE_WAIT_MS, TimeUnit.MILLISECONDS)) {
+                    LOG.warn("folding in announced writes was still running {} ms after stop was asked", CLOSE_WAIT_MS);
+                }
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
             }
             if (started) {
                 http.stop();

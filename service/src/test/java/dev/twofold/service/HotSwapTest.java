@@ -131,6 +131,29 @@ class HotSwapTest {
         }
     }
 
+    @Test
+    void a_rating_sent_to_one_service_is_folded_into_the_other_on_the_same_database() throws Exception {
+        DatabaseSettings same = DatabaseSettings.fromEnvironment(TestDatabases.environment(db));
+        try (Database poolA = Database.open(same); Database poolB = Database.open(same);
+                Service a = serviceOn(poolA); Service b = serviceOn(poolB)) {
+            ApiClient apiA = new ApiClient(a.start());
+            ApiClient apiB = new ApiClient(b.start());
+            String cook = TwoTastes.savouryCook(9);
+            String path = "/v1/users/" + cook + "/recommendations?count=3";
+            String top = ApiClient.json(apiB.get(path)).path("items").get(0).path("item").asText();
+
+            HttpResponse<String> posted = apiA.postJson("/v1/ratings", "[{\"user\": \"" + cook + "\", \"item\": \""
+                    + top + "\", \"rating\": 2}]");
+            assertEquals(202, posted.statusCode(), posted.body());
+            long deadline = System.nanoTime() + TimeUnit.MILLISECONDS.toNanos(SWITCH_WITHIN_MS);
+            while (ApiClient.json(apiB.get(path)).path("items").get(0).path("item").asText().equals(top)) {
+                assertTrue(System.nanoTime() < deadline, "the other service still recommends " + top);
+                Thread.sleep(10);
+            }
+            assertTrue(b.live().fresh().get(cook) != null, "folded in from the announcement, not polled");
+        }
+    }
+
     /** Waits until every service answers ready with the model; fails after the contract's 5 s. */
     private static void awaitServing(long model, ApiClient... services) throws InterruptedException {
         long deadline = System.nanoTime() + TimeUnit.MILLISECONDS.toNanos(SWITCH_WITHIN_MS);
