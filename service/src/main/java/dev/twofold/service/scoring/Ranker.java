@@ -115,7 +115,13 @@ public final class Ranker {
             }
         }
         Arrays.sort(out, 0, n);
-        return Arrays.stream(out, 0, n).distinct().toArray();
+        int distinct = 0;
+        for (int j = 0; j < n; j++) {
+            if (distinct == 0 || out[distinct - 1] != out[j]) {
+                out[distinct++] = out[j];
+            }
+        }
+        return Arrays.copyOf(out, distinct);
     }
 
     /** The sorted union of {@code a[from..to)} and {@code b} (both sorted). */

@@ -185,7 +185,7 @@ public final class ScoringEngine {
         ItemPanels panels = model.panels();
         int k = model.rank();
         int n = model.numItems();
-        s.fit(size, k);
+        s.fit(k);
         for (int b = 0; b < size; b++) {
             Job job = s.batch[b];
             for (int f = 0; f < k; f++) {
@@ -289,7 +289,7 @@ public final class ScoringEngine {
             }
         }
 
-        void fit(int size, int k) {
+        void fit(int k) {
             if (x.length < MAX_BATCH * k) {
                 x = new float[MAX_BATCH * k];
             }
