@@ -12,11 +12,12 @@ import java.util.concurrent.atomic.LongAdder;
 /**
  * Ranking without HTTP: how many top-10 lists a second the scoring engine makes for random users
  * over 20,000 items at rank 64, with 1 and with 32 request threads (the second lets requests
- * batch), beside the old one-user-at-a-time path (a row-major dot product per item, scalar). A
- * plain main; run like {@link ServingBenchmark}:
+ * batch), beside the old one-user-at-a-time path (a row-major dot product per item, scalar; its
+ * heap is left out, which flatters it slightly). A
+ * plain main:
  *
  * <pre>
- * java --add-modules jdk.incubator.vector -cp ... dev.twofold.service.bench.RankingThroughput [seconds]
+ * JAVA_OPTS="--add-modules jdk.incubator.vector" deploy/bench service dev.twofold.service.bench.RankingThroughput [seconds]
  * </pre>
  */
 public final class RankingThroughput {
@@ -34,8 +35,9 @@ public final class RankingThroughput {
         Ranker ranker = new Ranker();
         System.out.println("engine: " + ranker.engine().description());
         for (int round = 0; round < 2; round++) {
-            System.out.printf(Locale.ROOT, "round %d: old path 1 thread %,.0f/s; engine 1 thread %,.0f/s; engine 32"
-                    + " threads %,.0f/s%n", round, run(1, seconds, u -> oldPath(model, u)),
+            System.out.printf(Locale.ROOT, "round %d: old path 1 thread %,.0f/s, 32 threads %,.0f/s; engine 1 thread"
+                    + " %,.0f/s, 32 threads %,.0f/s%n", round, run(1, seconds, u -> oldPath(model, u)),
+                    run(32, seconds, u -> oldPath(model, u)),
                     run(1, seconds, u -> ranker.recommend(model, "cook-" + u, 10, List.of())),
                     run(32, seconds, u -> ranker.recommend(model, "cook-" + u, 10, List.of())));
         }

@@ -31,9 +31,7 @@ import java.util.regex.Pattern;
  * talks to 127.0.0.1, runs a bounded time and stops everything it started.
  *
  * <pre>
- * mvn -B -q -pl service -am test-compile -DskipTests
- * mvn -B -q -pl service dependency:build-classpath -Dmdep.outputFile=/tmp/cp.txt
- * java --add-modules jdk.incubator.vector -Xmx2g -cp "service/target/test-classes:service/target/classes:$(cat /tmp/cp.txt)" \
+ * JAVA_OPTS="--add-modules jdk.incubator.vector -Xmx2g" deploy/bench service \
  *     dev.twofold.service.bench.ServingBenchmark [users items rank seconds connections rounds]
  * </pre>
  * Defaults: 100,000 users, 20,000 items, rank 64, 10 s per run, 32 connections, wrk with 2

@@ -19,11 +19,9 @@ import java.util.SplittableRandom;
  * rank one user's items. A plain main, not a test:
  *
  * <pre>
- * mvn -B -q -pl service -am test-compile
- * java --add-modules jdk.incubator.vector -Xmx6g -cp "service/target/test-classes:service/target/classes:$(cat cp.txt)" \
+ * JAVA_OPTS="--add-modules jdk.incubator.vector -Xmx6g" deploy/bench service \
  *     dev.twofold.service.bench.ServingFootprint [users items rank ratingsPerUser shared|none freshUsers]
  * </pre>
- * (cp.txt from {@code mvn -q -pl service dependency:build-classpath -Dmdep.outputFile=cp.txt}).
  * Defaults: 1,000,000 users, 100,000 items, rank 64, 20 ratings per user, no Z, 100,000 fresh
  * users (the default {@code TWOFOLD_FRESH_USERS}); then ranking latency on 20,000 items at rank 64.
  */
