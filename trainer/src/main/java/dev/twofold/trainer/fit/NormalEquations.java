@@ -114,6 +114,17 @@ final class NormalEquations {
         }
     }
 
+    /**
+     * Adds the neighbour term of one row: A[0..k,0..k] += β c I and c[0..k] += β pull (see
+     * {@link NeighbourTerm#pull}). Cost k.
+     */
+    static void addNeighbour(double[] a, double[] c, int k, int dim, double beta, double curvature, double[] pull) {
+        for (int x = 0; x < k; x++) {
+            a[x * dim + x] += beta * curvature;
+            c[x] += beta * pull[x];
+        }
+    }
+
     /** A += amount · I on the first {@code dim} coordinates. */
     static void addRidge(double[] a, int dim, double amount) {
         for (int x = 0; x < dim; x++) {

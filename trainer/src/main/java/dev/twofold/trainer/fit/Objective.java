@@ -9,13 +9,16 @@ import dev.twofold.trainer.data.TrustGraph;
  * <pre>
  *   L = Σ_(u,i)∈R (r_ui − μ − b_u − b_i − p_u·q_i)²
  *     + τ Σ_u Σ_v c_uv (t_uv − p_u·z_v)²                                (shared coupling only)
+ *     + β Σ_{u∈U_T} ‖p_u − Σ_{v∈N(u)} w̄_uv p_v‖²                           (neighbour coupling only)
  *     + λ (Σ_u ñ_u (‖p_u‖² + b_u²) + Σ_i ñ_i (‖q_i‖² + b_i²) + Σ_v ñ_v ‖z_v‖²)
  * </pre>
  *
  * where t_uv = 1 with confidence c_uv = 1 + α·w_uv on an observed edge and t_uv = 0 with c_uv = 1 on
  * every other cell of the m×m trust matrix (Hu, Koren, Volinsky, ICDM 2008), ñ_v counts the users
  * who trust v, and the Z term is present only with shared coupling (SoRec, Ma et al., CIKM 2008;
- * weighted-λ from Zhou et al., AAIM 2008). The sum over all m² trust cells is evaluated without
+ * weighted-λ from Zhou et al., AAIM 2008). The neighbour term runs over the users U_T who trust
+ * someone, with w̄ the trust weights normalised per truster (SocialMF, Jamali and Ester, RecSys 2010;
+ * see {@link NeighbourTerm}); β is the settings' trust weight. The sum over all m² trust cells is evaluated without
  * materialising T:
  *
  * <pre>
@@ -89,6 +92,12 @@ public final class Objective {
                 trust = s.trustWeight() * (all + edges);
             }
         }
+        if (s.coupling() == Coupling.NEIGHBOUR && s.trustWeight() > 0) {
+            double[] d = new double[m * k];
+            NeighbourTerm term = NeighbourTerm.of(t, s.trustWeight());
+            term.residual(p, k, d);
+            trust = term.value(d);
+        }
         return fit + trust + s.lambda() * reg;
     }
 
@@ -123,6 +132,13 @@ public final class Objective {
             users.assemble(r.userItems(), r.userValues(), r.userStart()[u], r.userStart()[u + 1], t.trustees(),
                     t.outWeights(), t.outStart()[u], t.outStart()[u + 1], scratch);
             rowGradient(scratch, dim, p, model.userBias(), u, k, biases, x, g, gp, gbu);
+        }
+
+        if (s.coupling() == Coupling.NEIGHBOUR && s.trustWeight() > 0) {
+            double[] d = new double[m * k];
+            NeighbourTerm term = NeighbourTerm.of(t, s.trustWeight());
+            term.residual(p, k, d);
+            term.addGradient(d, k, gp);
         }
 
         double[] gq = new double[n * k];
