@@ -2,6 +2,9 @@ package dev.twofold.launch;
 
 import dev.twofold.db.BadInputException;
 import dev.twofold.db.TwofoldException;
+import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.publish.TrainCommand;
+import dev.twofold.trainer.sweep.SweepCommand;
 import java.io.PrintWriter;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
@@ -18,6 +21,9 @@ import picocli.CommandLine.Command;
         description = "Recommendations from ratings coupled with trust: import, train, serve.",
         subcommands = {
             CommandLine.HelpCommand.class,
+            TrainCommand.class,
+            SweepCommand.class,
+            DemoDataCommand.class,
         })
 public final class Twofold {
 
