@@ -10,4 +10,4 @@ main="$1"; shift
 mvn -B -o -q -pl trainer -am test-compile dependency:build-classpath \
     -Dmdep.outputFile=target/bench-classpath.txt -Dmdep.includeScope=test >/dev/null
 cp="trainer/target/test-classes:trainer/target/classes:$(cat trainer/target/bench-classpath.txt)"
-exec java -Xms2g -Xmx8g -cp "$cp" "dev.twofold.trainer.bench.$main" "$@"
+exec java -Xms2g -Xmx8g ${JAVA_OPTS:-} -cp "$cp" "dev.twofold.trainer.bench.$main" "$@"

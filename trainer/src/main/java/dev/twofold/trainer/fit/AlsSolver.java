@@ -62,7 +62,7 @@ public final class AlsSolver implements Solver {
                 scratch[w] = new FoldIn.Scratch(k);
             }
             int[] failed = new int[threads];
-            return FitLoop.run(data, s, st, listener, epoch -> {
+            return FitLoop.run(data, s, st, workers, listener, epoch -> {
                 Arrays.fill(failed, 0);
 
                 FoldIn itemSide = new FoldIn(k, st.biases, st.mu, s.lambda(), p, bu, null, null, 0f, 0f);

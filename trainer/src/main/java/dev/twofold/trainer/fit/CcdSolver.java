@@ -49,7 +49,7 @@ public final class CcdSolver implements Solver {
         FitState st = FitState.start(data, s);
         try (Workers workers = new Workers(s.threads())) {
             Run run = new Run(data, s, st, workers);
-            return FitLoop.run(data, s, st, listener, epoch -> run.epoch());
+            return FitLoop.run(data, s, st, workers, listener, epoch -> run.epoch());
         }
     }
 

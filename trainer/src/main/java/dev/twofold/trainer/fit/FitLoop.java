@@ -1,5 +1,6 @@
 package dev.twofold.trainer.fit;
 
+import dev.twofold.trainer.parallel.Workers;
 import java.util.ArrayList;
 import java.util.List;
 
@@ -19,13 +20,14 @@ final class FitLoop {
     private FitLoop() {
     }
 
-    static FittedModel run(TrainingData data, FitSettings s, FitState st, EpochListener listener, Epoch step) {
+    static FittedModel run(TrainingData data, FitSettings s, FitState st, Workers workers, EpochListener listener,
+            Epoch step) {
         List<EpochReport> history = new ArrayList<>();
         Best best = s.patience() > 0 && !data.validation().isEmpty() ? new Best() : null;
         for (int epoch = 1; epoch <= s.epochs(); epoch++) {
             int failures = step.run(epoch);
             FittedModel current = st.model(s, List.of());
-            EpochReport report = new EpochReport(epoch, Objective.value(data, current), data.validation().rmse(current),
+            EpochReport report = new EpochReport(epoch, Objective.value(data, current, workers), data.validation().rmse(current),
                     failures);
             history.add(report);
             listener.onEpoch(report);

@@ -169,8 +169,7 @@ public final class FoldIn {
         double[] a = scratch.a;
         double[] c = scratch.c;
         NormalEquations.clear(a, c, dim);
-        NormalEquations.addRatings(a, c, scratch.row, rank, biases, globalMean, fixedFactors, fixedBias, items, ratings,
-                from, to);
+        addRatings(a, c, items, ratings, from, to, scratch);
         if (trustFactors != null && trustWeight > 0) {
             NormalEquations.addTrust(a, c, scratch.row, rank, dim, trustWeight, trustAlpha, trustFactors, trustGram,
                     trustees, trustWeights, trustFrom, trustTo);
@@ -190,8 +189,7 @@ public final class FoldIn {
             int trustTo, Scratch scratch) {
         int dim = biases ? rank + 1 : rank;
         NormalEquations.clear(scratch.a, scratch.c, dim);
-        NormalEquations.addRatings(scratch.a, scratch.c, scratch.row, rank, biases, globalMean, fixedFactors, fixedBias,
-                items, ratings, from, to);
+        addRatings(scratch.a, scratch.c, items, ratings, from, to, scratch);
         if (trustFactors != null && trustWeight > 0) {
             NormalEquations.addTrust(scratch.a, scratch.c, scratch.row, rank, dim, trustWeight, trustAlpha, trustFactors,
                     trustGram, trustees, trustWeights, trustFrom, trustTo);
@@ -200,6 +198,11 @@ public final class FoldIn {
         NormalEquations.addRidge(scratch.a, dim, (double) lambda * Math.max(to - from, 1));
         scratch.withBias = biases;
         scratch.solved = false;
+    }
+
+    private void addRatings(double[] a, double[] c, int[] items, float[] ratings, int from, int to, Scratch scratch) {
+        NormalEquations.addRatings(a, c, scratch.gathered, scratch.targets, rank, biases, globalMean, fixedFactors,
+                fixedBias, items, ratings, from, to);
     }
 
     private void addNeighbours(double[] a, double[] c, int dim, int[] trustees, float[] trustWeights, int trustFrom,
@@ -230,6 +233,8 @@ public final class FoldIn {
         final double[] a;
         final double[] c;
         final double[] row;
+        final double[] gathered;
+        final double[] targets;
         boolean solved;
         boolean withBias;
 
@@ -238,7 +243,10 @@ public final class FoldIn {
             int dim = rank + 1;
             this.a = new double[dim * dim];
             this.c = new double[dim];
-            this.row = new double[NormalEquations.BLOCK * dim];
+            this.row = new double[dim];
+            this.gathered = new double[NormalEquations.GATHER * rank];
+            this.targets = new double[NormalEquations.GATHER];
+
         }
 
         /** Copies the solved factors p_u (k values) into {@code target[offset..offset+k)}. */

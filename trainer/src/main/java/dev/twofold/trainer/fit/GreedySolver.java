@@ -62,7 +62,7 @@ public final class GreedySolver implements Solver {
             int[] failed = new int[threads];
             int chunk = AlsSolver.ROWS_PER_CHUNK;
             int minParallel = AlsSolver.MIN_PARALLEL_ROWS;
-            return FitLoop.run(data, s, st, listener, epoch -> {
+            return FitLoop.run(data, s, st, workers, listener, epoch -> {
                 Arrays.fill(failed, 0);
                 FoldIn itemSide = new FoldIn(k, st.biases, st.mu, s.lambda(), p, bu, null, null, 0f, 0f);
                 int[] itemStart = r.itemStart();

@@ -2,6 +2,7 @@ package dev.twofold.trainer.fit;
 
 import dev.twofold.trainer.data.RatingMatrix;
 import dev.twofold.trainer.data.TrustGraph;
+import dev.twofold.trainer.parallel.Workers;
 
 /**
  * The training objective the solvers minimise, and its gradient. With ñ = max(count, 1):
@@ -32,8 +33,21 @@ public final class Objective {
     private Objective() {
     }
 
+    /** Users per block of the rating sums: partial sums per block are added in block order. */
+    private static final int USERS_PER_BLOCK = 256;
+
     /** L at the model's parameters, with the model's settings (λ, τ, α, coupling, biases). */
     public static double value(TrainingData data, FittedModel model) {
+        try (Workers workers = new Workers(1)) {
+            return value(data, model, workers);
+        }
+    }
+
+    /**
+     * L computed with {@code workers}: the ratings and the users' regularisation are summed per fixed
+     * block of users, so the value is bitwise the same for any number of threads.
+     */
+    static double value(TrainingData data, FittedModel model, Workers workers) {
         FitSettings s = model.settings();
         RatingMatrix r = data.ratings();
         TrustGraph t = data.trust();
@@ -46,20 +60,32 @@ public final class Objective {
         int m = r.numUsers();
         int n = r.numItems();
 
-        double fit = 0;
         int[] start = r.userStart();
         int[] items = r.userItems();
         float[] values = r.userValues();
-        for (int u = 0; u < m; u++) {
-            for (int at = start[u]; at < start[u + 1]; at++) {
-                double e = values[at] - model.score(u, items[at]);
-                fit += e * e;
+        int blocks = (m + USERS_PER_BLOCK - 1) / USERS_PER_BLOCK;
+        double[] fitParts = new double[blocks];
+        double[] regParts = new double[blocks];
+        workers.forEachChunk(m, USERS_PER_BLOCK, 2 * USERS_PER_BLOCK, (w, from, to) -> {
+            for (int b = from / USERS_PER_BLOCK; b * USERS_PER_BLOCK < to; b++) {
+                double fit = 0;
+                double reg = 0;
+                for (int u = b * USERS_PER_BLOCK; u < Math.min(to, (b + 1) * USERS_PER_BLOCK); u++) {
+                    for (int at = start[u]; at < start[u + 1]; at++) {
+                        double e = values[at] - model.score(u, items[at]);
+                        fit += e * e;
+                    }
+                    reg += Math.max(r.userCount(u), 1) * (squaredNorm(p, u * k, k) + (double) bu[u] * bu[u]);
+                }
+                fitParts[b] = fit;
+                regParts[b] = reg;
             }
-        }
-
+        });
+        double fit = 0;
         double reg = 0;
-        for (int u = 0; u < m; u++) {
-            reg += Math.max(r.userCount(u), 1) * (squaredNorm(p, u * k, k) + (double) bu[u] * bu[u]);
+        for (int b = 0; b < blocks; b++) {
+            fit += fitParts[b];
+            reg += regParts[b];
         }
         for (int i = 0; i < n; i++) {
             reg += Math.max(r.itemCount(i), 1) * (squaredNorm(q, i * k, k) + (double) bi[i] * bi[i]);
