@@ -9,13 +9,13 @@ public enum Coupling {
      * SoRec, Ma et al., CIKM 2008), T weighted as a full matrix (Hu, Koren, Volinsky, ICDM 2008).
      * The trust weight is τ.
      */
-    SHARED(0.1f),
+    SHARED(0.3f),
     /**
      * Neighbour regularisation: β Σ_u ‖p_u − Σ_v w̄_uv p_v‖² over the users who trust someone, with
      * w̄ the trust weights normalised per truster (SocialMF, Jamali and Ester, RecSys 2010). The trust
      * weight is β.
      */
-    NEIGHBOUR(2f),
+    NEIGHBOUR(8f),
     /** Ratings only; trust is ignored. */
     NONE(0f);
 

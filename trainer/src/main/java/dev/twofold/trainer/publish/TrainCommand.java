@@ -32,13 +32,13 @@ public final class TrainCommand implements Callable<Integer> {
     @Option(names = "--rank", paramLabel = "K", description = "number of latent factors (default: chosen from 4, 8, 16 on a validation split)")
     Integer rank;
 
-    @Option(names = "--lambda", paramLabel = "L", description = "regularisation per observation (default: chosen from 0.02, 0.04, 0.08 on a validation split)")
+    @Option(names = "--lambda", paramLabel = "L", description = "regularisation per observation (default: chosen from 0.01, 0.02, 0.04 on a validation split)")
     Float lambda;
 
     @Option(names = "--coupling", paramLabel = "C", description = "how trust is used: shared (trust matrix factorised with the user factors), neighbour (user factors pulled towards those of trusted users) or none (default: ${DEFAULT-VALUE})")
     String coupling = FitSettings.DEFAULT_COUPLING.label();
 
-    @Option(names = "--trust-weight", paramLabel = "W", description = "weight of the trust term: tau for shared, beta for neighbour (default: 0.1 for shared, 2 for neighbour)")
+    @Option(names = "--trust-weight", paramLabel = "W", description = "weight of the trust term: tau for shared, beta for neighbour (default: 0.3 for shared, 8 for neighbour)")
     Float trustWeight;
 
     @Option(names = "--trust-alpha", paramLabel = "A", description = "shared coupling: confidence of an observed trust edge, 1 + A * weight (default: ${DEFAULT-VALUE})")

@@ -26,7 +26,7 @@ public final class Sweep {
     /** Default grid of {@code train} when no rank is given. */
     public static final int[] DEFAULT_RANKS = {4, 8, 16};
     /** Default grid of {@code train} when no λ is given. */
-    public static final float[] DEFAULT_LAMBDAS = {0.02f, 0.04f, 0.08f};
+    public static final float[] DEFAULT_LAMBDAS = {0.01f, 0.02f, 0.04f};
     /** RMSE differences below this count as a tie. */
     public static final double TIE_RMSE = 1e-4;
 
