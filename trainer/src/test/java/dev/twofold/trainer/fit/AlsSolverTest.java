@@ -15,7 +15,8 @@ import org.junit.jupiter.api.Test;
 
 class AlsSolverTest {
 
-    private static final FitSettings SHARED = FitSettings.defaults().withRank(4).withLambda(0.1f).withTrust(0.5f, 5f);
+    private static final FitSettings SHARED = FitSettings.defaults().withRank(4).withLambda(0.1f).withCoupling(Coupling.SHARED)
+            .withTrust(0.5f, 5f);
 
     @Test
     void als_user_step_is_the_fold_in_against_the_final_item_and_trust_factors() {

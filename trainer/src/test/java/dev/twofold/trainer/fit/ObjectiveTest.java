@@ -22,7 +22,8 @@ class ObjectiveTest {
     private static final double GRADIENT_AGREEMENT = 1e-6;
     private static final float STEP = 1f / 64;
 
-    private static final FitSettings SHARED = FitSettings.defaults().withRank(3).withLambda(0.3f).withTrust(0.7f, 4f);
+    private static final FitSettings SHARED = FitSettings.defaults().withRank(3).withLambda(0.3f).withCoupling(Coupling.SHARED)
+            .withTrust(0.7f, 4f);
 
     @Test
     void gram_trick_objective_equals_the_sum_over_every_cell_of_a_dense_trust_matrix() {
