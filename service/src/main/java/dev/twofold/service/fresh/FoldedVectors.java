@@ -12,8 +12,9 @@ import java.util.Arrays;
  *
  * <ol>
  *   <li>with ratings of items the model can score: the fold-in solve ({@link FoldIn}): (p_u, b_u)
- *       minimising the training objective with Q, b_i, μ (and, under the shared coupling, Z) held
- *       fixed, one (k+1)×(k+1) Cholesky solve; {@link Strategy#MODEL};</li>
+ *       minimising the training objective with Q, b_i, μ and the trust side of the coupling (Z,
+ *       or the trusted users' factors) held fixed, one (k+1)×(k+1) Cholesky solve;
+ *       {@link Strategy#MODEL};</li>
  *   <li>otherwise, with trust edges to users who have factors: the trust-weighted average of
  *       their p_v and b_v, as the model does at load for such users
  *       ({@link ServingModel#trustBuiltRow}); {@link Strategy#TRUST};</li>
@@ -45,9 +46,12 @@ final class FoldedVectors {
             int[] trustees = new int[history.numTrustEdges()];
             float[] weights = new float[trustees.length];
             int m = 0;
+            boolean neighbours = model.foldSettings().neighbours();
             for (int e = 0; e < trustees.length; e++) {
                 int v = history.trustees()[e];
-                if (v >= 0 && v < model.trainedUsers() && v != history.user()) {
+                // Z has a row for every trained user; the neighbour term averages only users with factors
+                boolean usable = neighbours ? model.hasFactors(v) : v >= 0 && v < model.trainedUsers();
+                if (usable && v != history.user()) {
                     trustees[m] = v;
                     weights[m++] = history.trustWeight()[e];
                 }

@@ -45,4 +45,9 @@ public record FoldSettings(String coupling, boolean biases, float lambda, float 
     public boolean sharesFactors() {
         return SHARED.equals(coupling);
     }
+
+    /** Whether trust enters a fold-in as neighbour regularisation towards the trusted users' factors. */
+    public boolean neighbours() {
+        return NEIGHBOUR.equals(coupling);
+    }
 }

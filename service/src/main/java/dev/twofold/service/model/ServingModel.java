@@ -92,9 +92,14 @@ public final class ServingModel {
         this.inverseNorms = inverseNorms(b.itemFactors, b.itemBias.length, rank);
         this.itemBias = b.itemBias;
         this.popularityOrder = b.popularityOrder;
-        double[] gram = b.trustFactors == null ? null : FoldIn.gram(b.trustFactors, trainedUsers, rank);
-        this.foldIn = new FoldIn(rank, foldSettings.biases(), globalMean, foldSettings.lambda(), itemFactors, itemBias,
-                b.trustFactors, gram, foldSettings.trustWeight(), foldSettings.trustAlpha());
+        if (foldSettings.neighbours()) {
+            this.foldIn = FoldIn.withNeighbours(rank, foldSettings.biases(), globalMean, foldSettings.lambda(),
+                    itemFactors, itemBias, userFactors, foldSettings.trustWeight());
+        } else {
+            double[] gram = b.trustFactors == null ? null : FoldIn.gram(b.trustFactors, trainedUsers, rank);
+            this.foldIn = new FoldIn(rank, foldSettings.biases(), globalMean, foldSettings.lambda(), itemFactors,
+                    itemBias, b.trustFactors, gram, foldSettings.trustWeight(), foldSettings.trustAlpha());
+        }
     }
 
     /** {@link #assemble(ModelHeader, ModelFactors, IdDirectory, int[], int[], int[], int[], float[])} without trust edges. */
@@ -231,9 +236,11 @@ public final class ServingModel {
     }
 
     /**
-     * The solve that folds one user into this model: against Q, b_i, μ, λ and, under the shared
-     * coupling, Z with ZᵀZ. Items are serving item indices; trustees are user indices below
-     * {@link #trainedUsers()}. Shared and thread-safe; each thread brings its own scratch.
+     * The solve that folds one user into this model: against Q, b_i, μ, λ and the trust term of
+     * its coupling: under the shared coupling Z with ZᵀZ (trustees: user indices below
+     * {@link #trainedUsers()}); under the neighbour coupling β ‖p_u − Σ w̄_uv p_v‖² over the
+     * trusted users' rows of P (trustees: users with factors). Items are serving item indices.
+     * Shared and thread-safe; each thread brings its own scratch.
      */
     public FoldIn foldIn() {
         return foldIn;

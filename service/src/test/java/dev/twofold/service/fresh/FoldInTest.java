@@ -10,7 +10,6 @@ import com.fasterxml.jackson.databind.JsonNode;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.ingest.RatingScale;
 import dev.twofold.db.ingest.RatingWriter;
-import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
@@ -19,7 +18,9 @@ import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Strategy;
 import dev.twofold.service.scoring.UserVector;
 import dev.twofold.service.testing.ApiClient;
+import dev.twofold.service.testing.FoldInReference;
 import dev.twofold.service.testing.TwoTastes;
+import dev.twofold.trainer.fit.Coupling;
 import java.net.http.HttpResponse;
 import java.sql.Connection;
 import java.sql.PreparedStatement;
@@ -29,9 +30,6 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.concurrent.TimeUnit;
-import org.ejml.data.DMatrixRMaj;
-import org.ejml.dense.row.factory.LinearSolverFactory_DDRM;
-import org.ejml.interfaces.linsol.LinearSolverDense;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -55,7 +53,7 @@ class FoldInTest {
     static void start() {
         db = TestDatabases.fresh();
         TwoTastes.write(db);
-        TwoTastes.train(db, 1);
+        TwoTastes.train(db, 1, Coupling.SHARED);
         // polling only every hour: nothing here depends on it
         service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(5), Duration.ofHours(1)),
                 AccessPolicy.OPEN, db);
@@ -105,7 +103,7 @@ class FoldInTest {
         assertNotSame(model.userFactors(), folded.factors(), "a vector of its own, not the trained row");
         assertTrue(model.trustFactors() != null, "the shared coupling keeps Z");
 
-        double[] expected = leastSquares(model, cook);
+        double[] expected = FoldInReference.leastSquares(model, ratingsOf(db, cook), trustOf(db, cook));
         int k = model.rank();
         for (int x = 0; x < k; x++) {
             assertEquals(expected[x], folded.factors()[folded.offset() + x], FOLD_TOLERANCE, "p[" + x + "]");
@@ -142,80 +140,19 @@ class FoldInTest {
         assertEquals(service.live().model().numItems(), recs.path("items").size(), "nothing of theirs is excluded");
     }
 
-    /**
-     * The fold-in objective for one user with everything else fixed, solved as an ordinary
-     * weighted least-squares problem by EJML's QR solver (not the normal equations the service
-     * uses): unknowns x = (p_u, b_u),
-     * <pre>
-     *   Σ_i (r_ui − μ − b_i − q_i·p − b)²                      over the user's ratings
-     *   + τ Σ_v c_uv (t_uv − z_v·p)²                           over every user v (t = 1, c = 1 + α w on an edge; t = 0, c = 1 off)
-     *   + λ n_u (‖p‖² + b²)
-     * </pre>
-     * (the training objective's user terms; PRODUCT.md, "The maths"). Ratings and edges are read
-     * from the database with plain SQL.
-     */
-    private static double[] leastSquares(ServingModel model, String cook) throws SQLException {
-        ModelHeader h = model.header();
-        int k = model.rank();
-        List<double[]> rows = new ArrayList<>();
-        List<Double> targets = new ArrayList<>();
-        float[] q = model.itemFactors();
-        int ratings = 0;
-        for (Object[] r : query("select i.external_id, r.rating from ratings r join users u on u.idx = r.user_idx"
-                + " join items i on i.idx = r.item_idx where u.external_id = ?", cook)) {
-            int item = model.itemIndex((String) r[0]);
-            if (item < 0) {
-                continue;
-            }
-            double[] row = new double[k + 1];
-            for (int x = 0; x < k; x++) {
-                row[x] = q[item * k + x];
-            }
-            row[k] = 1;
-            rows.add(row);
-            targets.add(((Number) r[1]).doubleValue() - h.globalMean() - model.itemBias()[item]);
-            ratings++;
-        }
-        double[] edgeWeight = new double[model.trainedUsers()];
-        for (Object[] e : query("select b.external_id, t.weight from trust t join users a on a.idx = t.truster_idx"
-                + " join users b on b.idx = t.trustee_idx where a.external_id = ?", cook)) {
-            int v = model.userIndex((String) e[0]);
-            edgeWeight[v] = ((Number) e[1]).doubleValue();
-        }
-        float[] z = model.trustFactors();
-        for (int v = 0; v < model.trainedUsers(); v++) {
-            boolean edge = edgeWeight[v] > 0;
-            double weight = Math.sqrt(h.trustWeight() * (edge ? 1 + h.trustAlpha() * edgeWeight[v] : 1));
-            double[] row = new double[k + 1];
-            for (int x = 0; x < k; x++) {
-                row[x] = weight * z[v * k + x];
-            }
-            rows.add(row);
-            targets.add(edge ? weight : 0.0);
-        }
-        double ridge = Math.sqrt(h.lambda() * Math.max(1, ratings));
-        for (int x = 0; x <= k; x++) {
-            double[] row = new double[k + 1];
-            row[x] = ridge;
-            rows.add(row);
-            targets.add(0.0);
-        }
-        DMatrixRMaj a = new DMatrixRMaj(rows.size(), k + 1);
-        DMatrixRMaj b = new DMatrixRMaj(rows.size(), 1);
-        for (int r = 0; r < rows.size(); r++) {
-            for (int x = 0; x <= k; x++) {
-                a.set(r, x, rows.get(r)[x]);
-            }
-            b.set(r, 0, targets.get(r));
-        }
-        LinearSolverDense<DMatrixRMaj> solver = LinearSolverFactory_DDRM.leastSquares(rows.size(), k + 1);
-        assertTrue(solver.setA(a), "the least-squares system has full column rank");
-        DMatrixRMaj solution = new DMatrixRMaj(k + 1, 1);
-        solver.solve(b, solution);
-        return solution.getData().clone();
+    /** The user's ratings as (item id, rating), read with plain SQL. */
+    static List<Object[]> ratingsOf(Database db, String user) throws SQLException {
+        return query(db, "select i.external_id, r.rating from ratings r join users u on u.idx = r.user_idx"
+                + " join items i on i.idx = r.item_idx where u.external_id = ?", user);
     }
 
-    private static List<Object[]> query(String sql, String parameter) throws SQLException {
+    /** The user's trust edges as (trustee id, weight), read with plain SQL. */
+    static List<Object[]> trustOf(Database db, String user) throws SQLException {
+        return query(db, "select b.external_id, t.weight from trust t join users a on a.idx = t.truster_idx"
+                + " join users b on b.idx = t.trustee_idx where a.external_id = ?", user);
+    }
+
+    static List<Object[]> query(Database db, String sql, String parameter) throws SQLException {
         List<Object[]> out = new ArrayList<>();
         try (Connection c = db.dataSource().getConnection(); PreparedStatement ps = c.prepareStatement(sql)) {
             ps.setString(1, parameter);

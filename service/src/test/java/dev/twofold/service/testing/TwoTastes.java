@@ -5,6 +5,7 @@ import dev.twofold.db.ingest.RatingInput;
 import dev.twofold.db.ingest.RatingScale;
 import dev.twofold.db.ingest.RatingWriter;
 import dev.twofold.db.ingest.TrustInput;
+import dev.twofold.trainer.fit.Coupling;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.publish.TrainJob;
 import dev.twofold.trainer.publish.TrainReport;
@@ -78,10 +79,16 @@ public final class TwoTastes {
         writer.upsertTrust(trust);
     }
 
-    /** Trains, stores and promotes a model on what is in the database now. */
+    /** Trains, stores and promotes a model on what is in the database now, with the trainer's default coupling. */
     public static TrainReport train(Database db, long seed) {
+        return train(db, seed, FitSettings.DEFAULT_COUPLING);
+    }
+
+    /** Trains, stores and promotes a model with the given trust coupling (and its default trust weight). */
+    public static TrainReport train(Database db, long seed, Coupling coupling) {
         TrainSettings settings = TrainSettings.defaults().withFit(FitSettings.defaults().withRank(RANK).withEpochs(8)
-                .withSeed(seed));
+                .withSeed(seed).withCoupling(coupling).withTrust(coupling.defaultTrustWeight(),
+                        FitSettings.DEFAULT_TRUST_ALPHA));
         return new TrainJob(db, settings).run();
     }
 
