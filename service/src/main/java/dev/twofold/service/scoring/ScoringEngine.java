@@ -6,6 +6,7 @@ import java.util.Arrays;
 import java.util.concurrent.ArrayBlockingQueue;
 import java.util.concurrent.ConcurrentLinkedDeque;
 import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.locks.LockSupport;
 
 /**
@@ -22,13 +23,16 @@ import java.util.concurrent.locks.LockSupport;
  * O(n·k·batch) arithmetic, O(n·k) reads of Q, O(n·batch) comparisons.
  *
  * <p><b>How requests meet (flat combining).</b> There is no scoring thread. A request enqueues a
- * job; if one of the {@code combiners} scratch areas is free, its own thread takes it and scores
- * batches of whatever is queued (up to {@value #MAX_BATCH} jobs of the same model) until its own
- * job is done, then hands the scratch area back and wakes the waiter at the head of the queue.
- * Otherwise it parks until a combiner has scored its job or hands over. With little traffic a
- * request is scored by its own thread at once; under load, batches form by themselves. At most
- * {@code combiners} threads score at a time (default: one per core), the rest wait without
- * spinning.
+ * job; if it may become a combiner, its own thread takes a scratch area and scores batches of
+ * whatever is queued (up to {@value #MAX_BATCH} jobs of the same model) until its own job is done,
+ * then hands the scratch area back and wakes the waiter at the head of the queue. Otherwise it
+ * parks until a combiner has scored its job or hands over. A thread may become a combiner when
+ * nobody is scoring, or when at least {@value #EXTRA_COMBINER_BACKLOG} jobs wait and a scratch
+ * area is free (at most {@code combiners}, default one per core). So with little traffic a
+ * request is scored by its own thread at once; under load, batches form by themselves, and a
+ * second core joins only when there is a backlog worth a batch: a lone user reads all of Q for
+ * itself (bound by cache bandwidth, about twice the cost per user of a batch of four). Waiters
+ * never spin.
  *
  * <p>Thread-safe. Jobs of different models (during a swap) are never batched together.
  */
@@ -38,12 +42,16 @@ public final class ScoringEngine {
     static final int MAX_BATCH = 16;
     /** Panels per cache block: 16 × 16 items × k floats = 64 KiB at k = 64. */
     static final int BLOCK_PANELS = 16;
+    /** Jobs that must be waiting before a second (third, ...) thread starts scoring beside the first. */
+    static final int EXTRA_COMBINER_BACKLOG = 4;
     /** A parked waiter re-checks at least this often (a safety net; hand-offs normally wake it). */
     private static final long PARK_NANOS = TimeUnit.MILLISECONDS.toNanos(10);
 
     private final BlockKernel kernel;
     private final int combiners;
     private final ConcurrentLinkedDeque<Job> pending = new ConcurrentLinkedDeque<>();
+    /** Jobs in {@link #pending}, kept beside it (the deque's size() walks the whole deque). */
+    private final AtomicInteger queued = new AtomicInteger();
     /** A free scratch area is the right to score; taking one makes a thread a combiner. */
     private final ArrayBlockingQueue<Scratch> idle;
 
@@ -98,9 +106,10 @@ public final class ScoringEngine {
         if (job.count < 0) {
             throw new IllegalArgumentException("count " + job.count + " must be >= 0");
         }
+        queued.incrementAndGet();
         pending.offerLast(job);
         while (!job.done) {
-            Scratch s = idle.poll();
+            Scratch s = mayCombine() ? idle.poll() : null;
             if (s == null) {
                 LockSupport.parkNanos(this, PARK_NANOS);
                 continue;
@@ -121,6 +130,11 @@ public final class ScoringEngine {
             throw new IllegalStateException("scoring failed in the batch that held this request", job.failure);
         }
         return new Ranked(job.items, job.scores);
+    }
+
+    /** Nobody is scoring, or enough jobs wait to make another combiner worth it. */
+    private boolean mayCombine() {
+        return idle.size() == combiners || queued.get() >= EXTRA_COMBINER_BACKLOG;
     }
 
     /** Scores batches until {@code mine} is done or nothing is queued; true when it scored anything. */
@@ -177,6 +191,7 @@ public final class ScoringEngine {
             }
             s.batch[size++] = next;
         }
+        queued.addAndGet(-size);
         return size;
     }
 
