@@ -35,7 +35,8 @@ import java.util.regex.Pattern;
  *     dev.twofold.service.bench.ServingBenchmark [users items rank seconds connections rounds]
  * </pre>
  * Defaults: 100,000 users, 20,000 items, rank 64, 10 s per run, 32 connections, wrk with 2
- * threads, 2 rounds (bare, service, bare, service), each after a 5 s warm-up.
+ * threads, 5 rounds alternating bare and service after a 5 s warm-up of each; the median ratio of
+ * the rounds is the figure (other work on a shared machine moves single runs a lot).
  */
 public final class ServingBenchmark {
 
@@ -53,7 +54,7 @@ public final class ServingBenchmark {
         int k = args.length > 2 ? Integer.parseInt(args[2]) : 64;
         int seconds = args.length > 3 ? Integer.parseInt(args[3]) : 10;
         int connections = args.length > 4 ? Integer.parseInt(args[4]) : 32;
-        int rounds = args.length > 5 ? Integer.parseInt(args[5]) : 2;
+        int rounds = args.length > 5 ? Integer.parseInt(args[5]) : 5;
 
         ServingModel model = syntheticModel(users, items, k, SEED);
         Path dir = Files.createTempDirectory("twofold-bench-");
@@ -87,9 +88,11 @@ public final class ServingBenchmark {
             wrk(bareUrl, bareScript, WARMUP_SECONDS, connections);
             wrk(serviceUrl, script, WARMUP_SECONDS, connections);
             List<String> rows = new ArrayList<>();
+            List<Double> ratios = new ArrayList<>();
             for (int round = 1; round <= rounds; round++) {
                 Result b = wrk(bareUrl, bareScript, seconds, connections);
                 Result s = wrk(serviceUrl, script, seconds, connections);
+                ratios.add(s.requestsPerSecond / b.requestsPerSecond);
                 rows.add(String.format(Locale.ROOT, "| %d | %,.0f | %.2f | %,.0f | %.2f | %.2f | %.1f%% | %s |", round,
                         b.requestsPerSecond, b.p99Millis, s.requestsPerSecond, s.p50Millis, s.p99Millis,
                         100 * s.requestsPerSecond / b.requestsPerSecond, s.errors == 0 && b.errors == 0 ? "0"
@@ -100,7 +103,9 @@ public final class ServingBenchmark {
                     + " | ratio | errors |");
             System.out.println("|---|---|---|---|---|---|---|---|");
             rows.forEach(System.out::println);
-            System.out.printf(Locale.ROOT, "%nload average after: %s%n", loadAverage());
+            ratios.sort(null);
+            System.out.printf(Locale.ROOT, "%nmedian ratio %.1f%%; load average after: %s%n",
+                    100 * ratios.get(ratios.size() / 2), loadAverage());
         } finally {
             bare.stop();
         }
