@@ -171,6 +171,29 @@ public final class ModelRegistry {
     }
 
     /**
+     * Replaces the metrics and reason of a finished version without changing its status (a trainer
+     * whose promotion did not happen records why).
+     *
+     * @throws ModelStateException when the version is still training
+     */
+    public void annotate(long modelId, String metricsJson, String reason) {
+        inTransaction("annotating model " + modelId, c -> {
+            ModelHeader h = lockedHeader(c, modelId);
+            if (TRAINING.equals(h.status())) {
+                throw new ModelStateException("model " + modelId + " is still training; finish it instead");
+            }
+            try (PreparedStatement ps = c.prepareStatement("update models set metrics = coalesce(?::jsonb, metrics), reason = ?"
+                    + " where id = ?")) {
+                ps.setString(1, metricsJson);
+                ps.setString(2, reason);
+                ps.setLong(3, modelId);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    /**
      * Marks every {@code training} version {@code failed} with {@link #ORPHAN_REASON} and drops its
      * factors; returns their ids, oldest first. Only the holder of the retrain lock may call this, and
      * before it creates its own version: while it holds the lock no other trainer is alive, so every

@@ -16,14 +16,12 @@ import dev.twofold.trainer.split.PerUserHoldout;
  * @param relevance        a held-out rating at or above this is relevant for ranking figures; also
  *                         the threshold of the popularity stored with the model
  * @param k                list length of the ranking figures
- * @param promoteTolerance the candidate is promoted when its held-out RMSE ≤ active RMSE × (1 + this)
+ * @see PublishSettings what happens to the model once it is evaluated (promotion, gate, retention)
  */
-public record TrainSettings(FitSettings fit, double holdout, long splitSeed, RatingScale scale, float relevance, int k,
-        double promoteTolerance) {
+public record TrainSettings(FitSettings fit, double holdout, long splitSeed, RatingScale scale, float relevance, int k) {
 
     public static final double DEFAULT_HOLDOUT = PerUserHoldout.DEFAULT_FRACTION;
     public static final long DEFAULT_SPLIT_SEED = 20_260_101L;
-    public static final double DEFAULT_PROMOTE_TOLERANCE = 0.005;
     public static final double MIN_HOLDOUT = 0.01;
     public static final double MAX_HOLDOUT = 0.9;
 
@@ -37,9 +35,6 @@ public record TrainSettings(FitSettings fit, double holdout, long splitSeed, Rat
         if (scale == null) {
             throw new IllegalArgumentException("rating scale is required");
         }
-        if (!(promoteTolerance >= 0 && promoteTolerance <= 1)) {
-            throw new IllegalArgumentException("promote tolerance " + promoteTolerance + " outside 0..1");
-        }
         // validates k and the relevance threshold against the scale
         new EvaluationSettings(k, relevance, EvaluationSettings.DEFAULT_COLD_MAX_RATINGS, scale.min(), scale.max(),
                 fit.threads());
@@ -47,19 +42,19 @@ public record TrainSettings(FitSettings fit, double holdout, long splitSeed, Rat
 
     public static TrainSettings defaults() {
         return new TrainSettings(FitSettings.defaults(), DEFAULT_HOLDOUT, DEFAULT_SPLIT_SEED, RatingScale.DEFAULT,
-                EvaluationSettings.DEFAULT_RELEVANCE, EvaluationSettings.DEFAULT_K, DEFAULT_PROMOTE_TOLERANCE);
+                EvaluationSettings.DEFAULT_RELEVANCE, EvaluationSettings.DEFAULT_K);
     }
 
     public TrainSettings withFit(FitSettings value) {
-        return new TrainSettings(value, holdout, splitSeed, scale, relevance, k, promoteTolerance);
+        return new TrainSettings(value, holdout, splitSeed, scale, relevance, k);
     }
 
     public TrainSettings withHoldout(double value) {
-        return new TrainSettings(fit, value, splitSeed, scale, relevance, k, promoteTolerance);
+        return new TrainSettings(fit, value, splitSeed, scale, relevance, k);
     }
 
     public TrainSettings withRanking(float relevanceThreshold, int listLength) {
-        return new TrainSettings(fit, holdout, splitSeed, scale, relevanceThreshold, listLength, promoteTolerance);
+        return new TrainSettings(fit, holdout, splitSeed, scale, relevanceThreshold, listLength);
     }
 
     EvaluationSettings evaluation() {
