@@ -5,6 +5,7 @@ import dev.twofold.db.TwofoldException;
 import dev.twofold.db.ingest.ImportCommand;
 import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.publish.ModelsCommand;
 import dev.twofold.trainer.publish.TrainCommand;
 import java.io.PrintWriter;
 import picocli.CommandLine;
@@ -24,6 +25,7 @@ import picocli.CommandLine.Command;
             ServeCommand.class,
             ImportCommand.class,
             TrainCommand.class,
+            ModelsCommand.class,
             DemoDataCommand.class,
             DemoCommand.class,
             CommandLine.HelpCommand.class,
