@@ -1,4 +1,4 @@
--- Twofold schema, version 2: who holds the retrain lock.
+-- Twofold schema: who holds the retrain lock.
 --
 -- One retrain runs at a time. The lock itself is a session-level PostgreSQL advisory lock held on a
 -- dedicated connection for the whole run (see RetrainLock), so it disappears with the trainer's
