@@ -26,9 +26,9 @@ import picocli.CommandLine.Command;
         description = "Recommendations from ratings coupled with trust: import, train, serve.",
         subcommands = {
             ServeCommand.class,
+            ModelsCommand.class,
             ImportCommand.class,
             TrainCommand.class,
-            ModelsCommand.class,
             DemoDataCommand.class,
             DemoCommand.class,
             KeysCommand.class,
