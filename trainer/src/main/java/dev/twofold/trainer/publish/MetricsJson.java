@@ -7,6 +7,7 @@ import com.fasterxml.jackson.databind.node.ObjectNode;
 import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
+import dev.twofold.trainer.fit.EpochReport;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.sweep.SweepPoint;
 import java.util.Locale;
@@ -21,7 +22,8 @@ import java.util.Locale;
  *  "baselines": {"globalMean": {...}, "biasesOnly": {...}, "mostPopular": {...}, "withoutTrust": {...} or null},
  *  "comparison": {"activeModelId": 3 or null, "activeRmse": 0.91 or null, "candidateRmse": 0.90,
  *                 "tolerance": 0.005, "decision": "promoted" or "rejected", "reason": null or "..."},
- *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0},
+ *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0,
+ *               "history": [{"epoch": 1, "objective": 2345.6, "failedSolves": 0}, ...]},
  *  "tuning": null or {"why": "...", "chosen": {"rank", "lambda", "epochs"},
  *             "sweep": [{"rank", "lambda", "validationRmse", "precision", "bestEpoch", "epochsRun", "seconds"}]}}
  * FIGURES = {"rows", "rmse", "mae", "rankedUsers", "precision", "recall", "ndcg", "map", "coverage"}
@@ -63,6 +65,13 @@ final class MetricsJson {
         number(training, "objective", report.history().isEmpty() ? Double.NaN
                 : report.history().get(report.history().size() - 1).objective());
         training.put("failedSolves", report.history().stream().mapToInt(e -> e.failedSolves()).sum());
+        ArrayNode epochs = training.putArray("history");
+        for (EpochReport e : report.history()) {
+            ObjectNode epoch = epochs.addObject();
+            epoch.put("epoch", e.epoch());
+            number(epoch, "objective", e.objective());
+            epoch.put("failedSolves", e.failedSolves());
+        }
         if (report.tuning() == null) {
             root.putNull("tuning");
         } else {

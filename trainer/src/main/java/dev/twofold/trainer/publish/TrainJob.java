@@ -99,8 +99,8 @@ public final class TrainJob {
         long id = registry.create(draft(chosen, snapshot, (float) data.train().mean(), counts));
         try {
             Progress.Task fitting = progress.start("fit", chosen.fit().epochs());
-            FittedModel model = solver.fit(data.trainingData(), chosen.fit(), e -> fitting.advance(e.epoch(),
-                    String.format(Locale.ROOT, "objective %.6g", e.objective())));
+            FittedModel model = solver.fit(data.trainingData(), chosen.fit(), e -> fitting.advanceAndLog(e.epoch(),
+                    String.format(Locale.ROOT, "epoch %d objective %.6g", e.epoch(), e.objective())));
             fitting.finish("");
             requireFinite(model);
             t = lap(phases, "fit", t);

@@ -60,8 +60,9 @@ public final class Sweep {
                 double rmse = fitData.validation().rmse(model);
                 double precision = evaluator.ranking(Scorer.of(model)).overall().precision();
                 points.add(new SweepPoint(rank, lambda, rmse, precision, best, model.history().size(), seconds));
-                task.advance(points.size(), String.format(Locale.ROOT, "rank %d, lambda %s: validation RMSE %.4f", rank,
-                        SweepResult.number(lambda), rmse));
+                task.advanceAndLog(points.size(), String.format(Locale.ROOT,
+                        "rank %d, lambda %s: validation RMSE %.4f at epoch %d of %d", rank, SweepResult.number(lambda), rmse,
+                        best, model.history().size()));
             }
         }
         task.finish("");
