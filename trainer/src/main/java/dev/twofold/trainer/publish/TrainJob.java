@@ -171,7 +171,8 @@ public final class TrainJob {
             t = lap(phases, "store", t);
 
             report = new TrainReport(id, decision, reason, settings, publish, counts, phases, figures, baselines, liveId,
-                    live, verdict, List.copyOf(notes), recovered, List.of(), model.history());
+                    decision == Decision.PROMOTED ? Long.valueOf(id) : liveId, live, verdict, List.copyOf(notes), recovered,
+                    List.of(), model.history());
             if (decision == Decision.PROMOTED) {
                 registry.finish(id, ModelRegistry.CANDIDATE, MetricsJson.metrics(report), reason);
                 PausePoint.reached("promote");
@@ -181,7 +182,7 @@ public final class TrainJob {
                     reason = "the active model changed while this retrain ran (it was judged against "
                             + (liveId == null ? "no model" : "model " + liveId) + ", now model " + now
                             + " is active); kept as a candidate: compare and promote it by hand";
-                    report = withDecision(report, Decision.CANDIDATE, reason);
+                    report = withDecision(report, Decision.CANDIDATE, reason, now);
                     registry.annotate(id, MetricsJson.metrics(report), reason);
                 }
             } else {
@@ -207,7 +208,8 @@ public final class TrainJob {
         lap(phases, "retention", t);
         return new TrainReport(id, report.decision(), report.reason(), settings, publish, counts,
                 Collections.unmodifiableMap(new LinkedHashMap<>(phases)), report.model(), report.baselines(),
-                report.liveModelId(), report.live(), report.verdict(), report.notes(), recovered, deleted, report.history());
+                report.liveModelId(), report.activeModelId(), report.live(), report.verdict(), report.notes(), recovered, deleted,
+                report.history());
     }
 
     private Decision decide(QualityGate.Verdict verdict) {
@@ -229,9 +231,10 @@ public final class TrainJob {
         return clip(reason);
     }
 
-    private static TrainReport withDecision(TrainReport r, Decision decision, String reason) {
+    private static TrainReport withDecision(TrainReport r, Decision decision, String reason, Long active) {
         return new TrainReport(r.modelId(), decision, reason, r.settings(), r.publish(), r.counts(), r.phases(), r.model(),
-                r.baselines(), r.liveModelId(), r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(), r.history());
+                r.baselines(), r.liveModelId(), active, r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(),
+                r.history());
     }
 
     /** A caveat when the live model was split differently: it may have trained on some of these held-out rows. */

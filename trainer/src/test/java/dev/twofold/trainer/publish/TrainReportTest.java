@@ -35,7 +35,7 @@ class TrainReportTest {
                 new TrainReport.Counts(50, 20, 400, 90, 320, 80, 7), phases, new SegmentFigures(FULL, FULL),
                 new BaselineFigures(new SegmentFigures(ERRORS, ERRORS), new SegmentFigures(FULL, FULL),
                         new SegmentFigures(RANKING, RANKING), null),
-                live, live == null ? null : new SegmentFigures(LIVE, LIVE),
+                live, decision == Decision.PROMOTED ? Long.valueOf(3) : live, live == null ? null : new SegmentFigures(LIVE, LIVE),
                 new QualityGate.Verdict(live == null, live == null ? "no model is live" : "held-out RMSE is above"),
                 List.of(), List.of(1L), List.of(), List.of(new EpochReport(1, 123.4, Double.NaN, 0)));
     }
