@@ -164,6 +164,30 @@ class RetrainLifecycleIT {
         assertEquals(before, checksum());
     }
 
+    @Test
+    @Order(7)
+    void a_candidate_judged_against_a_model_replaced_by_hand_during_the_run_is_kept_not_promoted() throws Exception {
+        long live = registry.active().orElseThrow().id();
+        long older = registry.previous().orElseThrow();
+        try (LauncherProcess p = LauncherProcess.start(List.of("-Dtwofold.pauseAt=promote"), env, work, "train",
+                "--epochs", EPOCHS, "--json")) {
+            p.awaitStderr("paused at promote");
+            ok(LauncherProcess.run(env, work, "models", "promote", Long.toString(older))); // a person steps in
+            p.resume();
+            assertEquals(0, p.await(), p.describe());
+            JsonNode report = JSON.readTree(p.stdout());
+            assertEquals("candidate", report.get("outcome").asText());
+            assertEquals(live, report.get("liveModelId").asLong());
+            assertEquals(older, report.get("activeModelId").asLong());
+            assertTrue(report.get("reason").asText().startsWith("the active model changed while this retrain ran"),
+                    report.toString());
+            ModelHeader kept = registry.find(report.get("modelId").asLong()).orElseThrow();
+            assertEquals("candidate", kept.status());
+            assertEquals(report.get("reason").asText(), kept.reason());
+        }
+        assertEquals(older, registry.active().orElseThrow().id(), "the person's choice stands");
+    }
+
     /**
      * Starts a train that pauses at {@code point}, checks the run's version has {@code statusThere}
      * while the live model is unchanged, kills it with SIGKILL, checks the live model again, and runs

@@ -98,8 +98,7 @@ final class MetricsJson {
         root.put("modelId", report.modelId());
         root.put("reason", report.reason());
         optionalId(root, "liveModelId", report.liveModelId());
-        optionalId(root, "activeModelId", report.decision() == Decision.PROMOTED ? Long.valueOf(report.modelId())
-                : report.liveModelId());
+        optionalId(root, "activeModelId", report.activeModelId());
         ObjectNode gate = root.putObject("gate");
         gate.put("policy", report.publish().policy().label());
         gate.put("rmseTolerance", report.publish().gate().rmseTolerance());

@@ -194,8 +194,8 @@ public final class TrainJob {
             t = lap(phases, "store", t);
 
             report = new TrainReport(id, decision, reason, chosen, publish, counts, phases, figures, baselines, liveId,
-                    live, verdict, List.copyOf(notes), recovered, List.of(), model.history(), tuning.why(),
-                    tuning.sweep());
+                    decision == Decision.PROMOTED ? Long.valueOf(id) : liveId, live, verdict, List.copyOf(notes), recovered,
+                    List.of(), model.history(), tuning.why(), tuning.sweep());
             if (decision == Decision.PROMOTED) {
                 registry.finish(id, ModelRegistry.CANDIDATE, MetricsJson.metrics(report), reason);
                 PausePoint.reached("promote");
@@ -205,7 +205,7 @@ public final class TrainJob {
                     reason = "the active model changed while this retrain ran (it was judged against "
                             + (liveId == null ? "no model" : "model " + liveId) + ", now model " + now
                             + " is active); kept as a candidate: compare and promote it by hand";
-                    report = withDecision(report, Decision.CANDIDATE, reason);
+                    report = withDecision(report, Decision.CANDIDATE, reason, now);
                     registry.annotate(id, MetricsJson.metrics(report), reason);
                 }
             } else {
@@ -231,8 +231,8 @@ public final class TrainJob {
         lap(phases, "retention", t);
         return new TrainReport(id, report.decision(), report.reason(), report.settings(), publish, counts,
                 Collections.unmodifiableMap(new LinkedHashMap<>(phases)), report.model(), report.baselines(),
-                report.liveModelId(), report.live(), report.verdict(), report.notes(), recovered, deleted, report.history(),
-                report.tuning(), report.sweep());
+                report.liveModelId(), report.activeModelId(), report.live(), report.verdict(), report.notes(), recovered,
+                deleted, report.history(), report.tuning(), report.sweep());
     }
 
     /**
@@ -300,10 +300,10 @@ public final class TrainJob {
         return clip(reason);
     }
 
-    private static TrainReport withDecision(TrainReport r, Decision decision, String reason) {
+    private static TrainReport withDecision(TrainReport r, Decision decision, String reason, Long active) {
         return new TrainReport(r.modelId(), decision, reason, r.settings(), r.publish(), r.counts(), r.phases(), r.model(),
-                r.baselines(), r.liveModelId(), r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(), r.history(),
-                r.tuning(), r.sweep());
+                r.baselines(), r.liveModelId(), active, r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(),
+                r.history(), r.tuning(), r.sweep());
     }
 
     /** A caveat when the live model was split differently: it may have trained on some of these held-out rows. */

@@ -199,6 +199,7 @@ class TrainJobTest {
         TrainReport report = new TrainJob(database, QUICK).run();
         assertEquals(Decision.PROMOTED, report.decision(), report.reason());
         assertEquals(worseLive, report.liveModelId());
+        assertEquals(report.modelId(), report.activeModelId());
         assertTrue(report.reason().startsWith("quality gate passed: held-out RMSE"), report.reason());
         ModelRegistry registry = new ModelRegistry(database);
         assertEquals(report.modelId(), registry.active().orElseThrow().id());
