@@ -16,9 +16,7 @@ final class NotBuilt implements Callable<Integer> {
 
     static final List<Spec> SPECS = List.of(
             new Spec("models", "list, show, promote and roll back model versions"),
-            new Spec("sweep", "rank and regularisation sensitivity sweep"),
-            new Spec("keys", "create, list and revoke API keys"),
-            new Spec("users", "forget a user everywhere"));
+            new Spec("sweep", "rank and regularisation sensitivity sweep"));
 
     private final Spec what;
 

@@ -2,7 +2,9 @@ package dev.twofold.launch;
 
 import dev.twofold.db.BadInputException;
 import dev.twofold.db.TwofoldException;
+import dev.twofold.db.access.KeysCommand;
 import dev.twofold.db.ingest.ImportCommand;
+import dev.twofold.db.ingest.UsersCommand;
 import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
 import dev.twofold.trainer.publish.TrainCommand;
@@ -26,6 +28,8 @@ import picocli.CommandLine.Command;
             TrainCommand.class,
             DemoDataCommand.class,
             DemoCommand.class,
+            KeysCommand.class,
+            UsersCommand.class,
             CommandLine.HelpCommand.class,
         })
 public final class Twofold {

@@ -150,7 +150,7 @@ class LauncherIT {
 
     @Test
     void commands_not_built_yet_say_so_and_exit_2() throws Exception {
-        for (String command : List.of("keys", "users")) {
+        for (String command : List.of("models", "sweep")) {
             LauncherProcess p = LauncherProcess.run(env, work, command);
             if (p.stderr().contains("not built yet")) {
                 assertEquals(2, p.exitCode(), p.describe());

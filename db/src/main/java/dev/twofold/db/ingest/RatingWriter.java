@@ -11,6 +11,8 @@ import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.TreeSet;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * Small batches from the product backend (the HTTP service's {@code POST /v1/ratings} and
@@ -21,6 +23,11 @@ import java.util.TreeSet;
  * time and it is older.
  */
 public final class RatingWriter {
+
+    /** NOTIFY channel on which an erasure is announced; the payload is the erased external user id. */
+    public static final String ERASURE_CHANNEL = "twofold_erasures";
+
+    private static final Logger AUDIT = LoggerFactory.getLogger("dev.twofold.audit");
 
     /** The largest batch accepted (the HTTP contract's limit). */
     public static final int MAX_BATCH_ROWS = 10_000;
@@ -161,12 +168,19 @@ public final class RatingWriter {
     /**
      * Erases a user everywhere: ratings, trust edges in both directions, factor rows in every stored
      * model version, and the id itself (its index is never reused). One transaction, committed
-     * before returning.
+     * before returning; running services are told on {@value #ERASURE_CHANNEL} (payload: the
+     * external id) so they drop the user from memory. An audit line records the erasure and how
+     * many rows went, never the rows themselves.
      *
      * @return false when no user has this id (nothing to erase)
      */
     public boolean forgetUser(String externalId) {
-        return inTransaction("erasing a user", c -> {
+        try {
+            FieldRules.id("user", externalId);
+        } catch (FieldRules.Refused r) {
+            throw new BadInputException(r.getMessage());
+        }
+        long[] removed = inTransaction("erasing a user", c -> {
             Integer idx = null;
             try (PreparedStatement ps = c.prepareStatement("select idx from users where external_id = ? for update")) {
                 ps.setString(1, externalId);
@@ -177,22 +191,37 @@ public final class RatingWriter {
                 }
             }
             if (idx == null) {
-                return false;
+                return null;
             }
-            for (String sql : List.of(
+            List<String> deletes = List.of(
                     "delete from ratings where user_idx = ?",
-                    "delete from trust where truster_idx = ?",
-                    "delete from trust where trustee_idx = ?",
+                    "delete from trust where truster_idx = ? or trustee_idx = ?",
                     "delete from model_user_factors where user_idx = ?",
                     "delete from model_trust_factors where user_idx = ?",
-                    "delete from users where idx = ?")) {
-                try (PreparedStatement ps = c.prepareStatement(sql)) {
-                    ps.setInt(1, idx);
-                    ps.executeUpdate();
+                    "delete from users where idx = ?");
+            long[] counts = new long[deletes.size()];
+            for (int d = 0; d < deletes.size(); d++) {
+                try (PreparedStatement ps = c.prepareStatement(deletes.get(d))) {
+                    for (int p = 1; p <= ps.getParameterMetaData().getParameterCount(); p++) {
+                        ps.setInt(p, idx);
+                    }
+                    counts[d] = ps.executeUpdate();
                 }
             }
-            return true;
+            try (PreparedStatement ps = c.prepareStatement("select pg_notify(?, ?)")) {
+                ps.setString(1, ERASURE_CHANNEL);
+                ps.setString(2, externalId);
+                ps.execute();
+            }
+            return counts;
         });
+        if (removed == null) {
+            AUDIT.info("erasure requested for unknown user '{}': nothing stored", externalId);
+            return false;
+        }
+        AUDIT.info("erased user '{}': {} ratings, {} trust edges, {} user factor rows, {} trust factor rows",
+                externalId, removed[0], removed[1], removed[2], removed[3]);
+        return true;
     }
 
     /** Inserts the ids not yet known, in sorted order (so concurrent writers lock in the same order); returns how many. */
