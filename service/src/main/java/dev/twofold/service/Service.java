@@ -3,6 +3,7 @@ package dev.twofold.service;
 import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.HttpApi;
 import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.ops.Observability;
 import java.util.Optional;
 import java.util.concurrent.atomic.AtomicReference;
 import org.slf4j.Logger;
@@ -25,6 +26,7 @@ public final class Service implements AutoCloseable {
     private final ServiceSettings settings;
     private final AtomicReference<ServingModel> model = new AtomicReference<>();
     private final HttpApi http;
+    private final Observability ops;
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
@@ -35,8 +37,20 @@ public final class Service implements AutoCloseable {
     }
 
     public Service(ServiceSettings settings, AccessPolicy access) {
+        this(settings, access, null);
+    }
+
+    /**
+     * @param ops the operator's view (metrics, request log, dashboard), or null for none; it
+     *            belongs to the caller, who closes it after the service
+     */
+    public Service(ServiceSettings settings, AccessPolicy access, Observability ops) {
         this.settings = settings;
-        this.http = new HttpApi(model::get, access, settings.stopTimeout(), settings.retryAfterSeconds());
+        this.ops = ops;
+        this.http = ops == null
+                ? new HttpApi(model::get, access, settings.stopTimeout(), settings.retryAfterSeconds())
+                : new HttpApi(model::get, access, ops.observer(), ops::configure, settings.stopTimeout(),
+                        settings.retryAfterSeconds());
     }
 
     /**
@@ -52,13 +66,18 @@ public final class Service implements AutoCloseable {
                 throw new IllegalStateException(closed ? "the service is closed" : "the service is already started");
             }
             started = true;
+            int port;
             try {
-                return http.start(settings.host(), settings.port());
+                port = http.start(settings.host(), settings.port());
             } catch (RuntimeException e) {
                 throw new ServiceStartException("cannot serve HTTP on " + settings.host() + ":" + settings.port()
                         + " (" + e.getMessage() + "); free the port or set " + ServiceSettings.PORT_VARIABLE + "/"
                         + ServiceSettings.HOST_VARIABLE, e);
             }
+            if (ops != null) {
+                ops.start();
+            }
+            return port;
         }
     }
 
@@ -67,7 +86,11 @@ public final class Service implements AutoCloseable {
         if (next == null) {
             throw new IllegalArgumentException("model must not be null");
         }
+        long swapStarted = System.nanoTime();
         ServingModel previous = model.getAndSet(next);
+        if (ops != null) {
+            ops.modelInstalled(next.header(), System.nanoTime() - swapStarted);
+        }
         LOG.info("serving model {} ({} items, rank {})", next.id(), next.numItems(), next.rank());
         return Optional.ofNullable(previous);
     }

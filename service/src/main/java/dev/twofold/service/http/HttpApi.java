@@ -14,6 +14,7 @@ import java.io.UncheckedIOException;
 import java.time.Duration;
 import java.util.List;
 import java.util.Map;
+import java.util.function.Consumer;
 import java.util.function.Supplier;
 import org.eclipse.jetty.server.handler.GracefulHandler;
 
@@ -40,6 +41,8 @@ public final class HttpApi {
 
     private final Supplier<ServingModel> model;
     private final AccessPolicy access;
+    private final ServingObserver observer;
+    private final Consumer<JavalinConfig> extensions;
     private final Problems problems;
     private final int retryAfterSeconds;
     private final Ranker ranker = new Ranker();
@@ -54,8 +57,20 @@ public final class HttpApi {
      * @param retryAfterSeconds Retry-After of "no model loaded yet" problems
      */
     public HttpApi(Supplier<ServingModel> model, AccessPolicy access, Duration stopTimeout, int retryAfterSeconds) {
+        this(model, access, ServingObserver.NONE, config -> { }, stopTimeout, retryAfterSeconds);
+    }
+
+    /**
+     * @param observer   told of every recommendation list
+     * @param extensions adds to the server's configuration before it starts (the operator routes,
+     *                   request ids and the request log of {@code dev.twofold.service.ops})
+     */
+    public HttpApi(Supplier<ServingModel> model, AccessPolicy access, ServingObserver observer,
+            Consumer<JavalinConfig> extensions, Duration stopTimeout, int retryAfterSeconds) {
         this.model = model;
         this.access = access;
+        this.observer = observer;
+        this.extensions = extensions;
         this.retryAfterSeconds = retryAfterSeconds;
         this.problems = new Problems(retryAfterSeconds);
         this.openApi = readOpenApi();
@@ -94,6 +109,7 @@ public final class HttpApi {
         config.routes.get("/health/live", this::live);
         config.routes.get("/health/ready", this::ready);
         config.routes.get("/openapi.yaml", ctx -> ctx.contentType(YAML).result(openApi));
+        extensions.accept(config);
         problems.register(config.routes);
     }
 
@@ -109,6 +125,7 @@ public final class HttpApi {
         List<String> exclude = RequestInput.idList(ctx, "exclude");
         ServingModel m = requireModel();
         Recommendation rec = ranker.recommend(m, user, count, exclude);
+        observer.recommended(rec.strategy(), false);
         JsonOutput.send(ctx, 200, JsonOutput.JSON, json -> {
             json.writeStartObject();
             json.writeStringField("user", user);
