@@ -14,6 +14,7 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
+import java.util.Map;
 import java.util.Set;
 import java.util.TreeSet;
 import org.junit.jupiter.api.AfterAll;
@@ -191,5 +192,21 @@ class MetricsEndpointTest {
             assertTrue(names.contains(name), name + " is missing");
         }
         assertTrue(metrics.value("hikaricp_connections_acquire_seconds_count") > 0, "no connection was ever borrowed");
+    }
+
+    @Test
+    void every_series_the_alert_rules_and_dashboards_read_is_exposed() {
+        Set<String> exposed = metrics.sampleNames();
+        Map<String, String> used = new java.util.TreeMap<>();
+        MonitoringFiles.alertExpressions().forEach((alert, expr) ->
+                MonitoringFiles.seriesNames(expr).forEach(name -> used.put(name, "alert " + alert)));
+        for (Path dashboard : MonitoringFiles.dashboards()) {
+            for (String expr : MonitoringFiles.dashboardExpressions(dashboard)) {
+                MonitoringFiles.seriesNames(expr).forEach(name -> used.put(name, dashboard.getFileName().toString()));
+            }
+        }
+        assertTrue(used.size() >= 25, "only " + used.keySet());
+        used.forEach((name, where) -> assertTrue(exposed.contains(name), where + " reads " + name
+                + ", which /metrics does not expose"));
     }
 }
