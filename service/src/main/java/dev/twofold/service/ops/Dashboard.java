@@ -208,15 +208,15 @@ final class Dashboard {
         for (TrafficHistory.Sample s : traffic.samples()) {
             json.writeStartObject();
             json.writeNumberField("at", s.at().toEpochMilli() / 1000.0);
-            json.writeNumberField("requestsPerSecond", s.requestsPerSecond());
-            json.writeNumberField("clientErrorsPerSecond", s.clientErrorsPerSecond());
-            json.writeNumberField("serverErrorsPerSecond", s.serverErrorsPerSecond());
+            number(json, "requestsPerSecond", s.requestsPerSecond());
+            number(json, "clientErrorsPerSecond", s.clientErrorsPerSecond());
+            number(json, "serverErrorsPerSecond", s.serverErrorsPerSecond());
             number(json, "p50Ms", s.latencyMs()[0]);
             number(json, "p95Ms", s.latencyMs()[1]);
             number(json, "p99Ms", s.latencyMs()[2]);
             json.writeObjectFieldStart("strategies");
             for (Map.Entry<String, Double> e : s.strategiesPerSecond().entrySet()) {
-                json.writeNumberField(e.getKey(), e.getValue());
+                number(json, e.getKey(), e.getValue());
             }
             json.writeEndObject();
             json.writeEndObject();

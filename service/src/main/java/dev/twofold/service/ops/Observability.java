@@ -109,7 +109,7 @@ public final class Observability implements AutoCloseable {
             }
             started = true;
             long trafficMs = settings.trafficInterval().toMillis();
-            timer.scheduleAtFixedRate(this::sampleTraffic, 0, trafficMs, TimeUnit.MILLISECONDS);
+            timer.scheduleWithFixedDelay(this::sampleTraffic, 0, trafficMs, TimeUnit.MILLISECONDS);
             if (history != null) {
                 long historyMs = settings.historyRefresh().toMillis();
                 timer.scheduleWithFixedDelay(history::refresh, 0, historyMs, TimeUnit.MILLISECONDS);

@@ -1,5 +1,6 @@
 package dev.twofold.service.ops;
 
+import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayDeque;
 import java.util.ArrayList;
@@ -16,6 +17,8 @@ import java.util.Map;
  */
 final class TrafficHistory {
 
+    /** Shortest interval a sample may cover. */
+    static final long MIN_SAMPLE_MS = 50;
     /** Quantiles the dashboard shows. */
     static final double[] QUANTILES = {0.50, 0.95, 0.99};
 
@@ -44,15 +47,27 @@ final class TrafficHistory {
         this.capacity = capacity;
     }
 
-    /** Takes a reading; from the second on, adds the sample since the previous one. */
+    /**
+     * Takes a reading; from the second on, adds the sample since the previous one. A reading less
+     * than {@link #MIN_SAMPLE_MS} after the previous one is ignored (a late timer catching up
+     * would otherwise divide by almost nothing).
+     */
     synchronized void record(Instant at, TrafficTotals now) {
-        if (last != null && at.isAfter(lastAt)) {
-            double seconds = (at.toEpochMilli() - lastAt.toEpochMilli()) / 1000.0;
+        if (lastAt != null && Duration.between(lastAt, at).toMillis() < MIN_SAMPLE_MS) {
+            return;
+        }
+        if (last != null) {
+            double seconds = Duration.between(lastAt, at).toNanos() / 1e9;
             long requests = now.requests() - last.requests();
             double[] latency = new double[QUANTILES.length];
             long[] delta = delta(last.cumulativeBuckets(), now.cumulativeBuckets());
+            // Quantiles over the requests the buckets hold (up to the histogram's ceiling), not over
+            // the request count: a timer's count and buckets are separate counters, and a reading
+            // taken while a request is between the two would otherwise look like a request slower
+            // than the ceiling and turn p99 of a quiet interval into the ceiling.
+            long inBuckets = delta.length == 0 ? 0 : delta[delta.length - 1];
             for (int j = 0; j < QUANTILES.length; j++) {
-                latency[j] = LatencyQuantiles.quantile(QUANTILES[j], now.bucketBounds(), delta, requests) * 1000.0;
+                latency[j] = LatencyQuantiles.quantile(QUANTILES[j], now.bucketBounds(), delta, inBuckets) * 1000.0;
             }
             Map<String, Double> strategies = new LinkedHashMap<>();
             for (Map.Entry<String, Long> e : now.strategies().entrySet()) {
@@ -67,10 +82,8 @@ final class TrafficHistory {
                 samples.removeFirst();
             }
         }
-        if (lastAt == null || at.isAfter(lastAt)) {
-            last = now;
-            lastAt = at;
-        }
+        last = now;
+        lastAt = at;
     }
 
     /** The samples, oldest first. */

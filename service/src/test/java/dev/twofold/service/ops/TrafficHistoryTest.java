@@ -72,4 +72,21 @@ class TrafficHistoryTest {
             assertEquals(1.0, samples.get(2).requestsPerSecond(), TOLERANCE);
         }
     }
+
+    @Test
+    void a_reading_right_after_another_is_ignored_rather_than_divided_by_almost_nothing() {
+        try (ServiceMetrics metrics = new ServiceMetrics(Clock.systemUTC())) {
+            TrafficHistory history = new TrafficHistory(10);
+            history.record(T0, metrics.trafficTotals());
+            metrics.requestFinished("GET", RECOMMENDATIONS, 200, null, 1_000_000);
+            metrics.recommended("model");
+            // a timer that fell behind fires twice in a row: the second reading comes 0.2 ms later
+            history.record(T0.plusSeconds(1), metrics.trafficTotals());
+            history.record(T0.plusSeconds(1).plusNanos(200_000), metrics.trafficTotals());
+            List<TrafficHistory.Sample> samples = history.samples();
+            assertEquals(1, samples.size());
+            assertEquals(1.0, samples.get(0).requestsPerSecond(), TOLERANCE);
+            assertEquals(1.0, samples.get(0).strategiesPerSecond().get("model"), TOLERANCE);
+        }
+    }
 }
