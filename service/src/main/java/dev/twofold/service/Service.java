@@ -4,6 +4,8 @@ import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.HttpApi;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.ops.Observability;
+import dev.twofold.service.ops.OpsSettings;
+import java.time.Clock;
 import java.util.Optional;
 import java.util.concurrent.atomic.AtomicReference;
 import org.slf4j.Logger;
@@ -27,6 +29,7 @@ public final class Service implements AutoCloseable {
     private final AtomicReference<ServingModel> model = new AtomicReference<>();
     private final HttpApi http;
     private final Observability ops;
+    private final boolean ownsOps;
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
@@ -36,21 +39,25 @@ public final class Service implements AutoCloseable {
         this(settings, AccessPolicy.OPEN);
     }
 
+    /** A service with its own operator view (metrics, request log, dashboard) and no retrain history. */
     public Service(ServiceSettings settings, AccessPolicy access) {
-        this(settings, access, null);
+        this(settings, access, new Observability(OpsSettings.defaults(), null, Clock.systemUTC()), true);
     }
 
     /**
-     * @param ops the operator's view (metrics, request log, dashboard), or null for none; it
-     *            belongs to the caller, who closes it after the service
+     * @param ops the operator's view (metrics, request log, dashboard); it belongs to the caller,
+     *            who closes it after the service
      */
     public Service(ServiceSettings settings, AccessPolicy access, Observability ops) {
+        this(settings, access, ops, false);
+    }
+
+    private Service(ServiceSettings settings, AccessPolicy access, Observability ops, boolean ownsOps) {
         this.settings = settings;
         this.ops = ops;
-        this.http = ops == null
-                ? new HttpApi(model::get, access, settings.stopTimeout(), settings.retryAfterSeconds())
-                : new HttpApi(model::get, access, ops.observer(), ops::configure, settings.stopTimeout(),
-                        settings.retryAfterSeconds());
+        this.ownsOps = ownsOps;
+        this.http = new HttpApi(model::get, access, ops.observer(), ops::configure, settings.stopTimeout(),
+                settings.retryAfterSeconds());
     }
 
     /**
@@ -74,9 +81,7 @@ public final class Service implements AutoCloseable {
                         + " (" + e.getMessage() + "); free the port or set " + ServiceSettings.PORT_VARIABLE + "/"
                         + ServiceSettings.HOST_VARIABLE, e);
             }
-            if (ops != null) {
-                ops.start();
-            }
+            ops.start();
             return port;
         }
     }
@@ -88,9 +93,7 @@ public final class Service implements AutoCloseable {
         }
         long swapStarted = System.nanoTime();
         ServingModel previous = model.getAndSet(next);
-        if (ops != null) {
-            ops.modelInstalled(next.header(), System.nanoTime() - swapStarted);
-        }
+        ops.modelInstalled(next.header(), System.nanoTime() - swapStarted);
         LOG.info("serving model {} ({} items, rank {})", next.id(), next.numItems(), next.rank());
         return Optional.ofNullable(previous);
     }
@@ -115,6 +118,9 @@ public final class Service implements AutoCloseable {
             closed = true;
             if (started) {
                 http.stop();
+            }
+            if (ownsOps) {
+                ops.close();
             }
         }
     }

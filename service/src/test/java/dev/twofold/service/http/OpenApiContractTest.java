@@ -132,7 +132,7 @@ class OpenApiContractTest {
     }
 
     private static String concrete(String template) {
-        return template.replace("{user}", "cy");
+        return template.replace("{user}", "cy").replace("{name}", "dashboard.css");
     }
 
     @SuppressWarnings("rawtypes")
