@@ -246,7 +246,7 @@
         g.setAttribute('d', markerPath(s.marker, 21, 7, 5));
         g.setAttribute('stroke', s.stroke);
         g.setAttribute('stroke-width', '2');
-        g.setAttribute('fill', s.marker === 'circle' || s.marker === 'diamond' ? s.stroke : 'none');
+        g.setAttribute('fill', s.hollow || s.marker === 'cross' ? 'none' : s.stroke);
         svg.appendChild(g);
       }
       li.appendChild(svg);
@@ -373,10 +373,10 @@
       { label: 'rejected candidates', stroke: colour('paprika'), line: false, marker: 'cross' }
     ].concat(baselines.map((b) => ({ label: b.label, stroke: b.stroke, dash: b.dash, width: 1.75 })));
     if (versions.some((v) => v.outcome === 'failed')) {
-      specs.push({ label: 'failed retrains (no figures)', stroke: colour('paprika'), line: false, marker: 'triangle' });
+      specs.push({ label: 'failed retrains (no figures)', stroke: colour('paprika'), line: false, marker: 'triangle', hollow: true });
     }
     if (liveId != null) {
-      specs.push({ label: 'live model', stroke: colour('basil'), line: false, marker: 'diamond' });
+      specs.push({ label: 'live model', stroke: colour('basil'), line: false, marker: 'diamond', hollow: true });
     }
     legend(document.getElementById(id), specs);
 
@@ -479,8 +479,28 @@
       for (const s of series) {
         o.series.push({ label: s.label, stroke: s.stroke, width: (s.width || 2) * scale(),
           dash: DASH[s.dash || 'solid'].map((v) => v * scale()),
-          spanGaps: false, points: { show: samples.length < 3, size: 6 } });
+          spanGaps: false, points: { show: false } });
       }
+      // a value with no neighbour draws no line, and every line's latest value deserves a mark:
+      // draw the series' own marker shape there, so sparse series stay visible and distinct
+      o.hooks.draw.push((u) => {
+        const r = 4 * devicePixelRatio * scale();
+        for (let i = 1; i < u.data.length; i++) {
+          const ys = u.data[i];
+          let last = -1;
+          for (let j = ys.length - 1; j >= 0; j--) {
+            if (ys[j] != null) { last = j; break; }
+          }
+          for (let j = 0; j < ys.length; j++) {
+            if (ys[j] == null) continue;
+            const alone = (j === 0 || ys[j - 1] == null) && (j === ys.length - 1 || ys[j + 1] == null);
+            if (alone || j === last) {
+              drawMarker(u.ctx, series[i - 1].marker || 'circle', u.valToPos(u.data[0][j], 'x', true),
+                u.valToPos(ys[j], 'y', true), r, series[i - 1].stroke, true);
+            }
+          }
+        }
+      });
       if (extraDraw) o.hooks.draw.push(extraDraw);
       return o;
     };
@@ -507,17 +527,17 @@
     ], 3, false);
 
     timeChart('chart-traffic', d, [
-      { label: 'answered', stroke: colour('blueberry'), dash: 'solid',
+      { label: 'answered', stroke: colour('blueberry'), dash: 'solid', marker: 'circle',
         pick: (s) => Math.max(0, s.requestsPerSecond - s.clientErrorsPerSecond - s.serverErrorsPerSecond) },
-      { label: 'client errors (4xx)', stroke: colour('saffron'), dash: 'dashed', pick: (s) => s.clientErrorsPerSecond },
-      { label: 'server errors (5xx)', stroke: colour('paprika'), dash: 'dotted', width: 3, pick: (s) => s.serverErrorsPerSecond }
+      { label: 'client errors (4xx)', stroke: colour('saffron'), dash: 'dashed', marker: 'square', pick: (s) => s.clientErrorsPerSecond },
+      { label: 'server errors (5xx)', stroke: colour('paprika'), dash: 'dotted', width: 3, marker: 'triangle', pick: (s) => s.serverErrorsPerSecond }
     ], 1, '/s');
 
     const target = d.targets.p99Ms;
     const latency = [
-      { label: 'p50', stroke: colour('basil'), dash: 'solid', pick: (s) => s.p50Ms },
-      { label: 'p95', stroke: colour('saffron'), dash: 'dashed', pick: (s) => s.p95Ms },
-      { label: 'p99', stroke: colour('paprika'), dash: 'dotted', width: 3, pick: (s) => s.p99Ms }
+      { label: 'p50', stroke: colour('basil'), dash: 'solid', marker: 'circle', pick: (s) => s.p50Ms },
+      { label: 'p95', stroke: colour('saffron'), dash: 'dashed', marker: 'square', pick: (s) => s.p95Ms },
+      { label: 'p99', stroke: colour('paprika'), dash: 'dotted', width: 3, marker: 'triangle', pick: (s) => s.p99Ms }
     ];
     latency.floor = target * 1.2;
     timeChart('chart-latency', d, latency, 1, 'ms', (u) => {
@@ -549,13 +569,13 @@
     const names = new Set();
     for (const s of d.traffic.samples) Object.keys(s.strategies).forEach((k) => names.add(k));
     const known = [
-      { key: 'model', label: 'own factors (model)', stroke: colour('blueberry'), dash: 'solid' },
-      { key: 'trust', label: 'from trusted cooks (trust)', stroke: colour('plum'), dash: 'dashed' },
-      { key: 'popular', label: 'most popular (popular)', stroke: colour('saffron'), dash: 'dotted', width: 3 }
+      { key: 'model', label: 'own factors (model)', stroke: colour('blueberry'), dash: 'solid', marker: 'circle' },
+      { key: 'trust', label: 'from trusted cooks (trust)', stroke: colour('plum'), dash: 'dashed', marker: 'square' },
+      { key: 'popular', label: 'most popular (popular)', stroke: colour('saffron'), dash: 'dotted', width: 3, marker: 'triangle' }
     ];
     const strategies = known.filter((k) => names.has(k.key));
     for (const n of [...names].sort()) {
-      if (!known.some((k) => k.key === n)) strategies.push({ key: n, label: n, stroke: colour('pepper'), dash: 'longdash' });
+      if (!known.some((k) => k.key === n)) strategies.push({ key: n, label: n, stroke: colour('pepper'), dash: 'longdash', marker: 'diamond' });
     }
     if (!strategies.length) {
       showEmpty('chart-strategies', d.traffic.samples.length ? 'No recommendations served yet'
