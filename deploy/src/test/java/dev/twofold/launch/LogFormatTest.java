@@ -34,7 +34,7 @@ class LogFormatTest {
         assertTrue(lines.get(0).matches("\\d\\d:\\d\\d:\\d\\d\\.\\d{3} INFO  dev.twofold.request - \\[7f3a\\] "
                 + "GET /v1/users/cook-1/recommendations 200 1.25 ms id=7f3a"), lines.get(0));
         // a line with no request running has no empty brackets
-        assertTrue(lines.get(1).endsWith("INFO  d.t.service.Service - serving model 3"), lines.get(1));
+        assertTrue(lines.get(1).endsWith("INFO  d.t.service.Service - serving model 3 (100 items)"), lines.get(1));
     }
 
     @Test
@@ -46,12 +46,15 @@ class LogFormatTest {
             JsonNode request = JSON.readTree(lines.get(0));
             assertEquals("INFO", request.path("level").asText());
             assertEquals(REQUEST_LOGGER, request.path("loggerName").asText());
-            assertEquals("GET /v1/users/cook-1/recommendations 200 1.25 ms id=7f3a", request.path("message").asText());
+            assertEquals("GET /v1/users/cook-1/recommendations 200 1.25 ms id=7f3a",
+                    request.path("formattedMessage").asText());
+            assertTrue(request.path("timestamp").isNumber(), request.toString());
             assertEquals("7f3a", request.path("mdc").path("request_id").asText());
             assertTrue(request.path("kvpList").toString().contains("\"route\":\"/v1/users/{user}/recommendations\""),
                     request.toString());
             JsonNode plain = JSON.readTree(lines.get(1));
-            assertEquals("serving model 3", plain.path("message").asText());
+            assertEquals("serving model 3 (100 items)", plain.path("formattedMessage").asText());
+            assertFalse(plain.has("arguments") || plain.has("context") || plain.has("sequenceNumber"), plain.toString());
         }
     }
 
@@ -98,7 +101,7 @@ class LogFormatTest {
             } finally {
                 context.getMDCAdapter().remove("request_id");
             }
-            context.getLogger("dev.twofold.service.Service").info("serving model 3");
+            context.getLogger("dev.twofold.service.Service").info("serving model {} ({} items)", 3, 100);
         } finally {
             context.stop();
             System.setErr(stderr);

@@ -5,6 +5,7 @@ import java.util.concurrent.ThreadLocalRandom;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 import org.slf4j.MDC;
+import org.slf4j.spi.LoggingEventBuilder;
 
 /**
  * Request ids and the one log line written per request.
@@ -84,15 +85,17 @@ final class RequestLog {
                 if (problemType != null) {
                     line.append(" problem=").append(ServiceMetrics.problemSlug(problemType));
                 }
-                log.atInfo()
+                LoggingEventBuilder event = log.atInfo()
                         .addKeyValue("request_id", id)
                         .addKeyValue("method", method)
                         .addKeyValue("path", shownPath)
                         .addKeyValue("route", route == null ? ServiceMetrics.UNMATCHED_ROUTE : route)
                         .addKeyValue("status", status)
-                        .addKeyValue("duration_ms", duration)
-                        .addKeyValue("problem", problemType == null ? null : ServiceMetrics.problemSlug(problemType))
-                        .log(line.toString());
+                        .addKeyValue("duration_ms", duration);
+                if (problemType != null) {
+                    event = event.addKeyValue("problem", ServiceMetrics.problemSlug(problemType));
+                }
+                event.log(line.toString());
             }
         } finally {
             MDC.remove(MDC_KEY);

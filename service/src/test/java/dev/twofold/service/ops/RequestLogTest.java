@@ -107,6 +107,7 @@ class RequestLogTest {
         assertEquals("/v1/users/{user}/recommendations", kv.get("route"));
         assertEquals(200, kv.get("status"));
         assertEquals("trace-1", first.getMDCPropertyMap().get(RequestLog.MDC_KEY));
+        assertFalse(kv.containsKey("problem"), kv.toString());
 
         ILoggingEvent second = events.get(1);
         String badId = idOf(bad);
