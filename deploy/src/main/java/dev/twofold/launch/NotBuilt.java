@@ -15,8 +15,7 @@ final class NotBuilt implements Callable<Integer> {
     }
 
     static final List<Spec> SPECS = List.of(
-            new Spec("models", "list, show, promote and roll back model versions"),
-            new Spec("sweep", "rank and regularisation sensitivity sweep"));
+            new Spec("models", "list, show, promote and roll back model versions"));
 
     private final Spec what;
 

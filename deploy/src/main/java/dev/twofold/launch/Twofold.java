@@ -8,6 +8,7 @@ import dev.twofold.db.ingest.UsersCommand;
 import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
 import dev.twofold.trainer.publish.TrainCommand;
+import dev.twofold.trainer.sweep.SweepCommand;
 import java.io.PrintWriter;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
@@ -30,6 +31,7 @@ import picocli.CommandLine.Command;
             DemoCommand.class,
             KeysCommand.class,
             UsersCommand.class,
+            SweepCommand.class,
             CommandLine.HelpCommand.class,
         })
 public final class Twofold {

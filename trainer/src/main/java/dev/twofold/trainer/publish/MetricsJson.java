@@ -2,11 +2,13 @@ package dev.twofold.trainer.publish;
 
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.node.ArrayNode;
 import com.fasterxml.jackson.databind.node.ObjectNode;
 import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
 import dev.twofold.trainer.fit.FitSettings;
+import dev.twofold.trainer.sweep.SweepPoint;
 import java.util.Locale;
 
 /**
@@ -19,7 +21,9 @@ import java.util.Locale;
  *  "baselines": {"globalMean": {...}, "biasesOnly": {...}, "mostPopular": {...}, "withoutTrust": {...} or null},
  *  "comparison": {"activeModelId": 3 or null, "activeRmse": 0.91 or null, "candidateRmse": 0.90,
  *                 "tolerance": 0.005, "decision": "promoted" or "rejected", "reason": null or "..."},
- *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0}}
+ *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0},
+ *  "tuning": null or {"why": "...", "chosen": {"rank", "lambda", "epochs"},
+ *             "sweep": [{"rank", "lambda", "validationRmse", "precision", "bestEpoch", "epochsRun", "seconds"}]}}
  * FIGURES = {"rows", "rmse", "mae", "rankedUsers", "precision", "recall", "ndcg", "map", "coverage"}
  * </pre>
  */
@@ -59,13 +63,37 @@ final class MetricsJson {
         number(training, "objective", report.history().isEmpty() ? Double.NaN
                 : report.history().get(report.history().size() - 1).objective());
         training.put("failedSolves", report.history().stream().mapToInt(e -> e.failedSolves()).sum());
+        if (report.tuning() == null) {
+            root.putNull("tuning");
+        } else {
+            ObjectNode tuning = root.putObject("tuning");
+            tuning.put("why", report.tuning());
+            ObjectNode chosen = tuning.putObject("chosen");
+            chosen.put("rank", settings.fit().rank());
+            chosen.put("lambda", settings.fit().lambda());
+            chosen.put("epochs", settings.fit().epochs());
+            ArrayNode points = tuning.putArray("sweep");
+            if (report.sweep() != null) {
+                for (SweepPoint p : report.sweep().points()) {
+                    ObjectNode point = points.addObject();
+                    point.put("rank", p.rank());
+                    point.put("lambda", p.lambda());
+                    number(point, "validationRmse", p.validationRmse());
+                    number(point, "precision", p.precision());
+                    point.put("bestEpoch", p.bestEpoch());
+                    point.put("epochsRun", p.epochsRun());
+                    point.put("seconds", p.seconds());
+                }
+            }
+        }
         return write(root);
     }
 
     static String params(TrainSettings settings) {
         FitSettings f = settings.fit();
         ObjectNode root = MAPPER.createObjectNode();
-        root.put("solver", "als");
+        root.put("solver", settings.solver().label());
+        root.put("split", settings.split().label());
         root.put("rank", f.rank());
         root.put("lambda", f.lambda());
         root.put("trustWeight", f.trustWeight());
@@ -81,6 +109,7 @@ final class MetricsJson {
         root.put("splitSeed", settings.splitSeed());
         root.put("relevance", settings.relevance());
         root.put("k", settings.k());
+        root.put("trainPatience", settings.patience());
         root.put("scaleMin", settings.scale().min());
         root.put("scaleMax", settings.scale().max());
         root.put("promoteTolerance", settings.promoteTolerance());

@@ -12,9 +12,13 @@ import dev.twofold.trainer.evaluate.Baselines;
 import dev.twofold.trainer.evaluate.Evaluator;
 import dev.twofold.trainer.evaluate.Scorer;
 import dev.twofold.trainer.evaluate.SegmentFigures;
-import dev.twofold.trainer.fit.AlsSolver;
+import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
+import dev.twofold.trainer.progress.Progress;
+import dev.twofold.trainer.sweep.Sweep;
+import dev.twofold.trainer.sweep.SweepPoint;
+import dev.twofold.trainer.sweep.SweepResult;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.Collections;
@@ -28,10 +32,13 @@ import java.util.Optional;
  *
  * <ol>
  *   <li><b>read</b> a consistent snapshot of all ratings and trust edges;
- *   <li><b>split</b> off the held-out ratings ({@link TrainSettings#holdout()}, a fixed split seed so
- *       every retrain is judged on the same rows) and build the matrices; register a new model
- *       version with status {@code training};
- *   <li><b>fit</b> the model on the training ratings and all trust edges;
+ *   <li><b>split</b> off the held-out ratings ({@link TrainSettings#holdout()}, by user or by time, a
+ *       fixed split seed so every retrain is judged on the same rows) and build the matrices;
+ *   <li><b>tune</b>: when rank or λ is to be chosen, or early stopping is on, cut a validation split
+ *       out of the training ratings (the same way, another seed), sweep the settings on it and
+ *       keep the one with the lowest validation RMSE, and its best epoch count; register a new
+ *       model version with status {@code training};
+ *   <li><b>fit</b> the model on all training ratings and all trust edges;
  *   <li><b>evaluate</b> it on the held-out ratings, and the <b>baselines</b> (global mean, biases only,
  *       most popular, the same model without trust);
  *   <li><b>compare</b> with the active model's stored factors on the same held-out rows;
@@ -51,15 +58,22 @@ public final class TrainJob {
     private final Database database;
     private final TrainSettings settings;
     private final Solver solver;
+    private final Progress progress;
 
     public TrainJob(Database database, TrainSettings settings) {
-        this(database, settings, new AlsSolver());
+        this(database, settings, settings.solver().create(), Progress.silent());
     }
 
     public TrainJob(Database database, TrainSettings settings, Solver solver) {
+        this(database, settings, solver, Progress.silent());
+    }
+
+    /** @param progress shows how far the sweep and the fit have come */
+    public TrainJob(Database database, TrainSettings settings, Solver solver, Progress progress) {
         this.database = database;
         this.settings = settings;
         this.solver = solver;
+        this.progress = progress;
     }
 
     public TrainReport run() {
@@ -75,18 +89,27 @@ public final class TrainJob {
         TrainReport.Counts counts = new TrainReport.Counts(snapshot.numUsers(), snapshot.numItems(),
                 snapshot.numRatings(), snapshot.numTrustEdges(), data.train().nnz(), data.test().nnz(),
                 evaluator.coldUsersWithHeldOut());
-        ModelRegistry registry = new ModelRegistry(database);
-        long id = registry.create(draft(snapshot, (float) data.train().mean(), counts));
         t = lap(phases, "split", t);
+        Tuning tuning = tune(data);
+        TrainSettings chosen = settings.withFit(tuning.fit());
+        if (tuning.sweep() != null) {
+            t = lap(phases, "tune", t);
+        }
+        ModelRegistry registry = new ModelRegistry(database);
+        long id = registry.create(draft(chosen, snapshot, (float) data.train().mean(), counts));
         try {
-            FittedModel model = solver.fit(data.trainingData(), settings.fit());
+            Progress.Task fitting = progress.start("fit", chosen.fit().epochs());
+            FittedModel model = solver.fit(data.trainingData(), chosen.fit(), e -> fitting.advance(e.epoch(),
+                    String.format(Locale.ROOT, "objective %.6g", e.objective())));
+            fitting.finish("");
             requireFinite(model);
             t = lap(phases, "fit", t);
 
             SegmentFigures figures = evaluator.evaluate(Scorer.of(model));
             t = lap(phases, "evaluate", t);
+            progress.note("fitting and judging the baselines");
             float[] popularity = data.train().countAtLeast(settings.relevance());
-            BaselineFigures baselines = Baselines.evaluate(evaluator, data.trainingData(), settings.fit(), popularity,
+            BaselineFigures baselines = Baselines.evaluate(evaluator, data.trainingData(), chosen.fit(), popularity,
                     solver);
             t = lap(phases, "baselines", t);
 
@@ -105,10 +128,10 @@ public final class TrainJob {
             t = lap(phases, "compare", t);
 
             TrainReport report = new TrainReport(id, decision, reason, counts, phases, settings.k(), figures, baselines,
-                    activeId, activeRmse, model.history());
+                    activeId, activeRmse, model.history(), tuning.why(), tuning.sweep());
             ModelFactors factors = StoredModel.factorsOf(model, popularity);
             registry.storeFactors(id, factors);
-            String metrics = MetricsJson.metrics(report, settings);
+            String metrics = MetricsJson.metrics(report, chosen);
             if (decision == Decision.PROMOTED) {
                 registry.finish(id, "candidate", metrics, null);
                 registry.promote(id);
@@ -117,7 +140,7 @@ public final class TrainJob {
             }
             lap(phases, "store", t);
             return new TrainReport(id, decision, reason, counts, Collections.unmodifiableMap(new LinkedHashMap<>(phases)),
-                    settings.k(), figures, baselines, activeId, activeRmse, model.history());
+                    settings.k(), figures, baselines, activeId, activeRmse, model.history(), tuning.why(), tuning.sweep());
         } catch (RuntimeException | Error e) {
             try {
                 registry.finish(id, "failed", "{}", describe(e));
@@ -126,6 +149,48 @@ public final class TrainJob {
             }
             throw e;
         }
+    }
+
+    /** The fit settings to use, and why: the given ones, or a sweep's choice on a validation split. */
+    record Tuning(FitSettings fit, String why, SweepResult sweep) {
+    }
+
+    Tuning tune(HeldOutData data) {
+        FitSettings fit = settings.fit().withPatience(0);
+        if (!settings.sweeps() && settings.patience() == 0) {
+            return new Tuning(fit, null, null);
+        }
+        HeldOutData.Validation v = data.validation(settings);
+        if (v.rows().nnz() == 0) {
+            String why = "no validation split: too few ratings per user to hold any out; fitted rank " + fit.rank()
+                    + ", lambda " + fit.lambda() + " for " + fit.epochs() + " epochs";
+            progress.note(why);
+            return new Tuning(fit, why, null);
+        }
+        int[] ranks = settings.sweepRanks().length > 0 ? settings.sweepRanks() : new int[] {fit.rank()};
+        float[] lambdas = settings.sweepLambdas().length > 0 ? settings.sweepLambdas() : new float[] {fit.lambda()};
+        FitSettings base = fit.withPatience(Math.max(1, settings.patience()));
+        SweepResult sweep = Sweep.run(Sweep.withValidation(v.fit(), v.rows(), settings.scale().min(), settings.scale().max()),
+                v.rows(), solver, base, ranks, lambdas, settings.evaluation(), progress);
+        SweepPoint best = sweep.best();
+        FitSettings chosen = fit.withRank(best.rank()).withLambda(best.lambda())
+                .withEpochs(settings.patience() > 0 ? best.bestEpoch() : fit.epochs());
+        String why;
+        if (settings.sweeps()) {
+            why = String.format(Locale.ROOT, "%s given: swept %d settings on a validation split of the training ratings "
+                    + "(%,d fitting, %,d validation); %s", settings.sweepRanks().length > 0
+                    ? (settings.sweepLambdas().length > 0 ? "no --rank or --lambda" : "no --rank") : "no --lambda",
+                    sweep.points().size(), v.fit().ratings().nnz(), v.rows().nnz(), sweep.why());
+            if (settings.patience() > 0) {
+                why += String.format(Locale.ROOT, "; the model is fitted for %d epochs", chosen.epochs());
+            }
+        } else {
+            why = String.format(Locale.ROOT, "early stopping on a validation split of the training ratings: validation "
+                    + "RMSE was lowest (%.4f) at epoch %d of %d, so the model is fitted for %d epochs",
+                    best.validationRmse(), best.bestEpoch(), best.epochsRun(), chosen.epochs());
+        }
+        progress.note(why);
+        return new Tuning(chosen, why, sweep);
     }
 
     /** Null when the candidate should be promoted, else why not. */
@@ -144,11 +209,11 @@ public final class TrainJob {
                 candidateRmse, activeId, activeRmse, 100 * settings.promoteTolerance());
     }
 
-    private ModelHeader draft(Snapshot snapshot, float globalMean, TrainReport.Counts counts) {
-        return new ModelHeader(0, "training", settings.fit().rank(), settings.fit().coupling().label(),
-                settings.fit().lambda(), settings.fit().trustWeight(), settings.fit().trustAlpha(), settings.scale().min(),
-                settings.scale().max(), globalMean, snapshot.numUsers(), snapshot.numItems(), Instant.now(), null,
-                MetricsJson.params(settings), "{}", MetricsJson.counts(counts), null);
+    private static ModelHeader draft(TrainSettings chosen, Snapshot snapshot, float globalMean, TrainReport.Counts counts) {
+        FitSettings f = chosen.fit();
+        return new ModelHeader(0, "training", f.rank(), f.coupling().label(), f.lambda(), f.trustWeight(), f.trustAlpha(),
+                chosen.scale().min(), chosen.scale().max(), globalMean, snapshot.numUsers(), snapshot.numItems(),
+                Instant.now(), null, MetricsJson.params(chosen), "{}", MetricsJson.counts(counts), null);
     }
 
     private static void requireFinite(FittedModel model) {

@@ -4,6 +4,7 @@ import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
 import dev.twofold.trainer.fit.EpochReport;
+import dev.twofold.trainer.sweep.SweepResult;
 import java.time.Duration;
 import java.util.List;
 import java.util.Locale;
@@ -23,6 +24,8 @@ import java.util.Map;
  * @param activeModelId  the model that was active before, or null when there was none
  * @param activeRmse     that model's RMSE on the same held-out rows, NaN when there was none
  * @param history        one report per training epoch
+ * @param tuning         how rank, λ and the epoch count were chosen, or null when they were given
+ * @param sweep          the sweep behind that choice, or null
  */
 public record TrainReport(
         long modelId,
@@ -35,7 +38,9 @@ public record TrainReport(
         BaselineFigures baselines,
         Long activeModelId,
         double activeRmse,
-        List<EpochReport> history) {
+        List<EpochReport> history,
+        String tuning,
+        SweepResult sweep) {
 
     /** Data counts of a retrain. */
     public record Counts(int users, int items, int ratings, int trustEdges, int trainRatings, int heldOutRatings,
@@ -50,6 +55,9 @@ public record TrainReport(
         s.append(String.format(Locale.ROOT, "data: %,d users, %,d items, %,d ratings (%,d train, %,d held out), %,d trust edges%n",
                 counts.users(), counts.items(), counts.ratings(), counts.trainRatings(), counts.heldOutRatings(),
                 counts.trustEdges()));
+        if (tuning != null) {
+            s.append("tuning: ").append(tuning).append(System.lineSeparator());
+        }
         s.append("time:");
         Duration total = Duration.ZERO;
         for (Map.Entry<String, Duration> e : phases.entrySet()) {

@@ -1,5 +1,6 @@
 package dev.twofold.trainer.publish;
 
+import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
@@ -8,6 +9,8 @@ import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
 import dev.twofold.trainer.fit.EpochReport;
+import dev.twofold.trainer.sweep.SweepPoint;
+import dev.twofold.trainer.sweep.SweepResult;
 import java.time.Duration;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -29,7 +32,28 @@ class TrainReportTest {
                 new SegmentFigures(FULL, FULL),
                 new BaselineFigures(new SegmentFigures(ERRORS, ERRORS), new SegmentFigures(FULL, FULL),
                         new SegmentFigures(RANKING, RANKING), null),
-                active, active == null ? Double.NaN : 0.69, List.of(new EpochReport(1, 123.4, Double.NaN, 0)));
+                active, active == null ? Double.NaN : 0.69, List.of(new EpochReport(1, 123.4, Double.NaN, 0)), null, null);
+    }
+
+    private static TrainReport tuned() {
+        TrainReport r = report(Decision.PROMOTED, null, null);
+        SweepResult sweep = new SweepResult(List.of(new SweepPoint(4, 0.02f, 0.91, 0.05, 7, 9, 1.5),
+                new SweepPoint(8, 0.02f, 0.88, 0.06, 12, 14, 2.5)), 10);
+        return new TrainReport(r.modelId(), r.decision(), r.reason(), r.counts(), r.phases(), r.k(), r.model(),
+                r.baselines(), r.activeModelId(), r.activeRmse(), r.history(), "no --rank given: " + sweep.why(), sweep);
+    }
+
+    @Test
+    void a_tuned_report_says_what_was_chosen_and_keeps_the_sweep_in_its_metrics() throws Exception {
+        TrainReport report = tuned();
+        assertTrue(report.summary().contains("tuning: no --rank given: chose rank 8, lambda 0.02: lowest validation "
+                + "RMSE 0.8800 of 2 settings"), report.summary());
+        TrainSettings chosen = TrainSettings.defaults().withFit(TrainSettings.defaults().fit().withRank(8).withEpochs(12));
+        JsonNode json = new ObjectMapper().readTree(MetricsJson.metrics(report, chosen));
+        assertEquals(8, json.at("/tuning/chosen/rank").asInt());
+        assertEquals(12, json.at("/tuning/chosen/epochs").asInt());
+        assertEquals(2, json.at("/tuning/sweep").size());
+        assertEquals(0.91, json.at("/tuning/sweep/0/validationRmse").asDouble(), 0.0);
     }
 
     @Test
@@ -61,5 +85,6 @@ class TrainReportTest {
         assertTrue(json.at("/baselines/withoutTrust").isNull());
         assertTrue(json.at("/comparison/decision").asText().equals("promoted"));
         assertTrue(json.at("/training/epochs").asInt() == 1);
+        assertTrue(json.at("/tuning").isNull());
     }
 }
