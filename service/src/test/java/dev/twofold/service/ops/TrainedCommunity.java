@@ -5,6 +5,8 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.ingest.Importer;
 import dev.twofold.db.ingest.RatingScale;
+import dev.twofold.db.registry.ModelHeader;
+import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
@@ -47,7 +49,9 @@ final class TrainedCommunity implements AutoCloseable {
     static final int COOKS = 300;
     static final int RECIPES = 90;
     static final long SEED = 7;
-    static final TrainSettings FIRST = TrainSettings.defaults().withFit(FitSettings.defaults().withEpochs(6));
+    /** Fixed epochs (no early stopping), so the versions differ only as set here. */
+    static final TrainSettings FIRST = TrainSettings.defaults().withPatience(0)
+            .withFit(FitSettings.defaults().withEpochs(6));
     static final TrainSettings WORSE = FIRST.withFit(FIRST.fit().withRank(1).withLambda(50f));
     static final TrainSettings BETTER = FIRST.withFit(FIRST.fit().withEpochs(14));
     /** Longest wait for the background readings; the tests never assert on elapsed time. */
@@ -116,7 +120,9 @@ final class TrainedCommunity implements AutoCloseable {
             } catch (IllegalStateException expected) {
                 // recorded as failed
             }
-            models[3] = new dev.twofold.db.registry.ModelRegistry(database).list().get(0).id();
+            ModelHeader broken = new ModelRegistry(database).list().get(0);
+            assertEquals(ModelRegistry.FAILED, broken.status(), "the broken retrain left no failed version");
+            models[3] = broken.id();
             return new TrainedCommunity(database, ops, service, api, models, cooksOf(dir.resolve("ratings.csv")));
         } catch (RuntimeException | AssertionError e) {
             if (service != null) {
