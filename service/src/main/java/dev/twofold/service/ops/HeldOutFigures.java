@@ -25,7 +25,7 @@ import java.io.IOException;
  * @param candidateRmse         RMSE the promotion decision compared (this version)
  * @param referenceRmse         RMSE of the live model it was compared against, on the same held-out data
  */
-public record HeldOutFigures(
+record HeldOutFigures(
         int k,
         double rmse,
         double precision,
@@ -44,11 +44,11 @@ public record HeldOutFigures(
     private static final ObjectMapper JSON = new ObjectMapper();
 
     /** Every figure unknown. */
-    public static final HeldOutFigures NONE = new HeldOutFigures(0, Double.NaN, Double.NaN, Double.NaN, Double.NaN,
+    static final HeldOutFigures NONE = new HeldOutFigures(0, Double.NaN, Double.NaN, Double.NaN, Double.NaN,
             Double.NaN, Double.NaN, Double.NaN, Double.NaN, Double.NaN, Double.NaN, null, Double.NaN, Double.NaN);
 
     /** Reads the figures from a stored metrics object; text that is not a JSON object gives {@link #NONE}. */
-    public static HeldOutFigures parse(String metricsJson) {
+    static HeldOutFigures parse(String metricsJson) {
         if (metricsJson == null || metricsJson.isBlank()) {
             return NONE;
         }

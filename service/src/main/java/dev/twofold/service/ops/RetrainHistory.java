@@ -11,7 +11,6 @@ import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Collections;
 import java.util.List;
-import java.util.Locale;
 import java.util.Objects;
 import java.util.Optional;
 import java.util.concurrent.atomic.AtomicReference;
@@ -242,9 +241,5 @@ final class RetrainHistory {
 
     private static double epochSeconds(Instant at) {
         return at.toEpochMilli() / 1000.0;
-    }
-
-    static String describe(Version v) {
-        return "model " + v.id() + " " + v.outcome().toUpperCase(Locale.ROOT);
     }
 }

@@ -8,7 +8,6 @@ import java.io.UncheckedIOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
-import java.util.Iterator;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
@@ -85,8 +84,7 @@ final class MonitoringFiles {
 
     private static void collect(JsonNode node, List<String> out) {
         if (node.isObject()) {
-            for (Iterator<Map.Entry<String, JsonNode>> it = node.fields(); it.hasNext(); ) {
-                Map.Entry<String, JsonNode> field = it.next();
+            for (Map.Entry<String, JsonNode> field : node.properties()) {
                 if (field.getKey().equals("expr") && field.getValue().isTextual()) {
                     out.add(field.getValue().asText());
                 } else {
