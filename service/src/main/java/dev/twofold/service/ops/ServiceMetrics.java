@@ -36,6 +36,8 @@ import java.util.concurrent.CopyOnWriteArrayList;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicReference;
 import java.util.function.ToDoubleFunction;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * Every metric the service exposes, in one Micrometer registry scraped as Prometheus text. Names
@@ -48,6 +50,8 @@ import java.util.function.ToDoubleFunction;
  * additions, never I/O. Thread-safe.
  */
 public final class ServiceMetrics implements AutoCloseable {
+
+    private static final Logger LOG = LoggerFactory.getLogger(ServiceMetrics.class);
 
     /** The Prometheus text format version 0.0.4, which every Prometheus-compatible scraper reads. */
     public static final String CONTENT_TYPE = "text/plain; version=0.0.4; charset=utf-8";
@@ -155,14 +159,25 @@ public final class ServiceMetrics implements AutoCloseable {
 
     /**
      * Adds the connection pool's series ({@code hikaricp_connections_active}, {@code ..._pending},
-     * {@code ..._acquire_seconds}, ...) through HikariCP's Micrometer tracker. Once per database.
+     * {@code ..._acquire_seconds}, ...) through HikariCP's Micrometer tracker. A pool reports to
+     * one registry only: when another service in this process already measures it, this one
+     * goes without the pool's series and says so.
+     *
+     * @return whether this registry now has the pool's series
      */
-    public synchronized void trackPool(Database database) {
+    public synchronized boolean trackPool(Database database) {
         if (poolTracked) {
             throw new IllegalStateException("a connection pool is already tracked");
         }
-        database.trackPool(new MicrometerMetricsTrackerFactory(registry));
+        try {
+            database.trackPool(new MicrometerMetricsTrackerFactory(registry));
+        } catch (IllegalStateException e) {
+            LOG.info("the connection pool of {} already reports to another service's metrics; /metrics of this one"
+                    + " has no hikaricp series", database.description());
+            return false;
+        }
         poolTracked = true;
+        return true;
     }
 
     // ---- reading -------------------------------------------------------------------------------

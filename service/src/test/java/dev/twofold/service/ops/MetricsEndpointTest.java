@@ -209,4 +209,15 @@ class MetricsEndpointTest {
         used.forEach((name, where) -> assertTrue(exposed.contains(name), where + " reads " + name
                 + ", which /metrics does not expose"));
     }
+
+    @Test
+    void a_second_operator_view_on_the_same_pool_starts_without_the_pool_series() {
+        try (Observability second = new Observability(OpsSettings.defaults(), community.database,
+                java.time.Clock.systemUTC())) {
+            PrometheusText own = PrometheusText.parse(new String(second.metrics().scrape(),
+                    java.nio.charset.StandardCharsets.UTF_8));
+            assertTrue(own.sampleNames().stream().noneMatch(n -> n.startsWith("hikaricp_")));
+            assertTrue(own.sampleNames().contains("twofold_retrain_versions"));
+        }
+    }
 }
