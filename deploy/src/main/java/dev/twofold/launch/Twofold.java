@@ -9,6 +9,7 @@ import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
 import dev.twofold.trainer.publish.ModelsCommand;
 import dev.twofold.trainer.publish.TrainCommand;
+import dev.twofold.trainer.sweep.SweepCommand;
 import java.io.PrintWriter;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
@@ -25,13 +26,14 @@ import picocli.CommandLine.Command;
         description = "Recommendations from ratings coupled with trust: import, train, serve.",
         subcommands = {
             ServeCommand.class,
+            ModelsCommand.class,
             ImportCommand.class,
             TrainCommand.class,
-            ModelsCommand.class,
             DemoDataCommand.class,
             DemoCommand.class,
             KeysCommand.class,
             UsersCommand.class,
+            SweepCommand.class,
             CommandLine.HelpCommand.class,
         })
 public final class Twofold {
@@ -48,11 +50,6 @@ public final class Twofold {
 
     static CommandLine commandLine() {
         CommandLine cli = new CommandLine(new Twofold());
-        for (NotBuilt.Spec spec : NotBuilt.SPECS) {
-            CommandLine sub = new CommandLine(new NotBuilt(spec));
-            sub.getCommandSpec().usageMessage().description(spec.purpose() + " (not built yet)");
-            cli.addSubcommand(spec.name(), sub);
-        }
         cli.setExecutionExceptionHandler(Twofold::onFailure);
         return cli;
     }

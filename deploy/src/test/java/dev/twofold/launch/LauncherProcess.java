@@ -53,6 +53,8 @@ final class LauncherProcess implements AutoCloseable {
             throws IOException {
         List<String> command = new ArrayList<>();
         command.add(ProcessHandle.current().info().command().orElse("java"));
+        command.add("--add-modules"); // as deploy/twofold runs it: the SIMD scoring kernel
+        command.add("jdk.incubator.vector");
         command.addAll(jvmOptions);
         command.add("-jar");
         command.add(jar().toString());

@@ -7,10 +7,28 @@ public enum Coupling {
     /**
      * Shared factors: T ≈ P·Zᵀ with the same user factors P as the ratings (the coupled form of
      * SoRec, Ma et al., CIKM 2008), T weighted as a full matrix (Hu, Koren, Volinsky, ICDM 2008).
+     * The trust weight is τ.
      */
-    SHARED,
+    SHARED(0.3f),
+    /**
+     * Neighbour regularisation: β Σ_u ‖p_u − Σ_v w̄_uv p_v‖² over the users who trust someone, with
+     * w̄ the trust weights normalised per truster (SocialMF, Jamali and Ester, RecSys 2010). The trust
+     * weight is β.
+     */
+    NEIGHBOUR(8f),
     /** Ratings only; trust is ignored. */
-    NONE;
+    NONE(0f);
+
+    private final float defaultTrustWeight;
+
+    Coupling(float defaultTrustWeight) {
+        this.defaultTrustWeight = defaultTrustWeight;
+    }
+
+    /** The trust weight (τ or β) this coupling uses unless told otherwise, tuned on the demo data. */
+    public float defaultTrustWeight() {
+        return defaultTrustWeight;
+    }
 
     /** The lower-case name used on the command line and in the model registry. */
     public String label() {
@@ -24,6 +42,6 @@ public enum Coupling {
                 return c;
             }
         }
-        throw new IllegalArgumentException("coupling '" + text + "' is not one of shared, none");
+        throw new IllegalArgumentException("coupling '" + text + "' is not one of shared, neighbour, none");
     }
 }

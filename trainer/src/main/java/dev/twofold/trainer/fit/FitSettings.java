@@ -8,8 +8,9 @@ import dev.twofold.trainer.parallel.Workers;
  *
  * @param rank        k, number of latent factors; 0 fits biases only
  * @param lambda      λ, weighted-λ regularisation per observation (Zhou et al. 2008)
- * @param trustWeight τ, weight of the trust term against the ratings term (shared coupling)
- * @param trustAlpha  α, confidence of an observed trust edge: c = 1 + α·w
+ * @param trustWeight weight of the trust term against the ratings term: τ for shared coupling, β for
+ *                    neighbour coupling (unused without coupling)
+ * @param trustAlpha  α, confidence of an observed trust edge: c = 1 + α·w (shared coupling)
  * @param epochs      maximum number of ALS epochs
  * @param seed        seeds the initial factors
  * @param threads     worker threads; the result does not depend on it
@@ -33,13 +34,13 @@ public record FitSettings(
         float initScale) {
 
     public static final int DEFAULT_RANK = 8;
-    public static final float DEFAULT_LAMBDA = 0.04f;
-    public static final float DEFAULT_TRUST_WEIGHT = 0.1f;
+    public static final float DEFAULT_LAMBDA = 0.02f;
     public static final float DEFAULT_TRUST_ALPHA = 30f;
     public static final int DEFAULT_EPOCHS = 20;
     public static final long DEFAULT_SEED = 42;
     public static final int DEFAULT_THREADS = 1;
-    public static final Coupling DEFAULT_COUPLING = Coupling.SHARED;
+    public static final Coupling DEFAULT_COUPLING = Coupling.NEIGHBOUR;
+    public static final float DEFAULT_TRUST_WEIGHT = DEFAULT_COUPLING.defaultTrustWeight();
     public static final int DEFAULT_PATIENCE = 0;
     public static final float DEFAULT_INIT_SCALE = 0.1f;
 
@@ -67,7 +68,7 @@ public record FitSettings(
             throw new IllegalArgumentException("threads " + threads + " outside 1.." + Workers.MAX_THREADS);
         }
         if (coupling == null) {
-            throw new IllegalArgumentException("coupling is required: shared or none");
+            throw new IllegalArgumentException("coupling is required: shared, neighbour or none");
         }
         if (patience < 0 || patience > MAX_EPOCHS) {
             throw new IllegalArgumentException("patience " + patience + " outside 0.." + MAX_EPOCHS);
@@ -83,7 +84,11 @@ public record FitSettings(
         }
     }
 
-    /** The defaults (tuned on a validation split of the demo community): rank 8, λ 0.04, τ 0.1, α 30, 20 epochs, shared coupling, biases on, no early stopping. */
+    /**
+     * The defaults, chosen on a validation split of the demo community (docs/benchmarks.md, "How the
+     * defaults were chosen"): rank 8, λ 0.02, neighbour coupling with β 8 (α 30 for shared coupling),
+     * 20 epochs, biases on, no early stopping.
+     */
     public static FitSettings defaults() {
         return new FitSettings(DEFAULT_RANK, DEFAULT_LAMBDA, DEFAULT_TRUST_WEIGHT, DEFAULT_TRUST_ALPHA, DEFAULT_EPOCHS,
                 DEFAULT_SEED, DEFAULT_THREADS, DEFAULT_COUPLING, true, DEFAULT_PATIENCE, DEFAULT_INIT_SCALE);

@@ -18,6 +18,12 @@ package dev.twofold.trainer.fit;
  * k² and T is never materialised. Without biases, b_u and the 1s are dropped (k×k system); without a
  * trust side, the τ terms are dropped.
  *
+ * <p>Under neighbour coupling ({@link #withNeighbours}) the trust part is instead the user's own
+ * SocialMF term β ‖p_u − Σ_v w̄_uv p_v‖² against the fixed factors of the users they trust (weights
+ * normalised over the edges given): A gains β I and c gains β Σ_v w̄_uv p_v on the factor coordinates.
+ * A user with no ratings then gets p_u = β/(β + λ) Σ_v w̄_uv p_v, the shrunk average of the trusted
+ * users' vectors. Terms of other users who trust this one are not part of a fold-in.
+ *
  * <p>The same solve serves the item step with the roles swapped (fixed side P, b_u; no trust).
  *
  * <p>Cost O((n_u + |N(u)|)·k² + k³), no allocation: the caller passes a {@link Scratch} (one per
@@ -36,6 +42,8 @@ public final class FoldIn {
     private final double[] trustGram;
     private final float trustWeight;
     private final float trustAlpha;
+    private final float[] neighbourFactors;
+    private final float neighbourWeight;
 
     /**
      * @param rank         k
@@ -51,6 +59,13 @@ public final class FoldIn {
      */
     public FoldIn(int rank, boolean biases, float globalMean, float lambda, float[] fixedFactors, float[] fixedBias,
             float[] trustFactors, double[] trustGram, float trustWeight, float trustAlpha) {
+        this(rank, biases, globalMean, lambda, fixedFactors, fixedBias, trustFactors, trustGram, trustWeight, trustAlpha,
+                null, 0f);
+    }
+
+    private FoldIn(int rank, boolean biases, float globalMean, float lambda, float[] fixedFactors, float[] fixedBias,
+            float[] trustFactors, double[] trustGram, float trustWeight, float trustAlpha, float[] neighbourFactors,
+            float neighbourWeight) {
         if (rank < 0 || (rank == 0 && !biases)) {
             throw new IllegalArgumentException("rank " + rank + " with biases " + biases + " leaves nothing to solve");
         }
@@ -71,11 +86,36 @@ public final class FoldIn {
         this.trustGram = trustGram;
         this.trustWeight = trustWeight;
         this.trustAlpha = trustAlpha;
+        this.neighbourFactors = neighbourFactors;
+        this.neighbourWeight = neighbourWeight;
     }
 
-    /** Folds users into a fitted model: against its Q, b_i, μ and, for shared coupling, its Z. */
+    /**
+     * A fold-in under neighbour coupling: ratings against Q, b_i, μ, and trust edges pulling p_u
+     * towards the normalised weighted average of the trusted users' rows of {@code userFactors} with
+     * weight β.
+     *
+     * @param userFactors P (row-major, stride k) of the users that can be trusted
+     * @param beta        β ≥ 0
+     */
+    public static FoldIn withNeighbours(int rank, boolean biases, float globalMean, float lambda, float[] itemFactors,
+            float[] itemBias, float[] userFactors, float beta) {
+        if (!(beta >= 0)) {
+            throw new IllegalArgumentException("neighbour weight " + beta + " must be ≥ 0");
+        }
+        return new FoldIn(rank, biases, globalMean, lambda, itemFactors, itemBias, null, null, 0f, 0f, userFactors, beta);
+    }
+
+    /**
+     * Folds users into a fitted model: against its Q, b_i, μ and, for shared coupling, its Z; for
+     * neighbour coupling, against its P through the user's trust edges.
+     */
     public static FoldIn forModel(FittedModel model) {
         FitSettings s = model.settings();
+        if (s.coupling() == Coupling.NEIGHBOUR) {
+            return withNeighbours(model.rank(), s.biases(), model.globalMean(), s.lambda(), model.itemFactors(),
+                    model.itemBias(), model.userFactors(), s.trustWeight());
+        }
         float[] z = s.sharesFactors() ? model.trustFactors() : null;
         return new FoldIn(model.rank(), s.biases(), model.globalMean(), s.lambda(), model.itemFactors(),
                 model.itemBias(), z, z == null ? null : gram(z, model.numUsers(), model.rank()), s.trustWeight(),
@@ -129,12 +169,12 @@ public final class FoldIn {
         double[] a = scratch.a;
         double[] c = scratch.c;
         NormalEquations.clear(a, c, dim);
-        NormalEquations.addRatings(a, c, scratch.row, rank, biases, globalMean, fixedFactors, fixedBias, items, ratings,
-                from, to);
+        addRatings(a, c, items, ratings, from, to, scratch);
         if (trustFactors != null && trustWeight > 0) {
             NormalEquations.addTrust(a, c, scratch.row, rank, dim, trustWeight, trustAlpha, trustFactors, trustGram,
                     trustees, trustWeights, trustFrom, trustTo);
         }
+        addNeighbours(a, c, dim, trustees, trustWeights, trustFrom, trustTo, scratch.row);
         NormalEquations.addRidge(a, dim, (double) lambda * Math.max(to - from, 1));
         scratch.withBias = biases;
         scratch.solved = Cholesky.factor(a, dim) && Cholesky.solve(a, dim, c);
@@ -149,15 +189,42 @@ public final class FoldIn {
             int trustTo, Scratch scratch) {
         int dim = biases ? rank + 1 : rank;
         NormalEquations.clear(scratch.a, scratch.c, dim);
-        NormalEquations.addRatings(scratch.a, scratch.c, scratch.row, rank, biases, globalMean, fixedFactors, fixedBias,
-                items, ratings, from, to);
+        addRatings(scratch.a, scratch.c, items, ratings, from, to, scratch);
         if (trustFactors != null && trustWeight > 0) {
             NormalEquations.addTrust(scratch.a, scratch.c, scratch.row, rank, dim, trustWeight, trustAlpha, trustFactors,
                     trustGram, trustees, trustWeights, trustFrom, trustTo);
         }
+        addNeighbours(scratch.a, scratch.c, dim, trustees, trustWeights, trustFrom, trustTo, scratch.row);
         NormalEquations.addRidge(scratch.a, dim, (double) lambda * Math.max(to - from, 1));
         scratch.withBias = biases;
         scratch.solved = false;
+    }
+
+    private void addRatings(double[] a, double[] c, int[] items, float[] ratings, int from, int to, Scratch scratch) {
+        NormalEquations.addRatings(a, c, scratch.gathered, scratch.targets, rank, biases, globalMean, fixedFactors,
+                fixedBias, items, ratings, from, to);
+    }
+
+    private void addNeighbours(double[] a, double[] c, int dim, int[] trustees, float[] trustWeights, int trustFrom,
+            int trustTo, double[] pull) {
+        if (neighbourFactors == null || neighbourWeight == 0 || trustTo <= trustFrom) {
+            return;
+        }
+        double total = 0;
+        for (int at = trustFrom; at < trustTo; at++) {
+            total += trustWeights[at];
+        }
+        for (int x = 0; x < rank; x++) {
+            pull[x] = 0;
+        }
+        for (int at = trustFrom; at < trustTo; at++) {
+            double share = trustWeights[at] / total;
+            int off = trustees[at] * rank;
+            for (int x = 0; x < rank; x++) {
+                pull[x] += share * neighbourFactors[off + x];
+            }
+        }
+        NormalEquations.addNeighbour(a, c, rank, dim, neighbourWeight, 1.0, pull);
     }
 
     /** Reusable buffers of one thread's solves, and the last solution. */
@@ -166,6 +233,8 @@ public final class FoldIn {
         final double[] a;
         final double[] c;
         final double[] row;
+        final double[] gathered;
+        final double[] targets;
         boolean solved;
         boolean withBias;
 
@@ -174,7 +243,10 @@ public final class FoldIn {
             int dim = rank + 1;
             this.a = new double[dim * dim];
             this.c = new double[dim];
-            this.row = new double[NormalEquations.BLOCK * dim];
+            this.row = new double[dim];
+            this.gathered = new double[NormalEquations.GATHER * rank];
+            this.targets = new double[NormalEquations.GATHER];
+
         }
 
         /** Copies the solved factors p_u (k values) into {@code target[offset..offset+k)}. */

@@ -2,6 +2,7 @@ package dev.twofold.trainer.fit;
 
 import dev.twofold.trainer.data.RatingMatrix;
 import dev.twofold.trainer.data.TrustGraph;
+import dev.twofold.trainer.parallel.Workers;
 
 /**
  * The training objective the solvers minimise, and its gradient. With ñ = max(count, 1):
@@ -9,13 +10,16 @@ import dev.twofold.trainer.data.TrustGraph;
  * <pre>
  *   L = Σ_(u,i)∈R (r_ui − μ − b_u − b_i − p_u·q_i)²
  *     + τ Σ_u Σ_v c_uv (t_uv − p_u·z_v)²                                (shared coupling only)
+ *     + β Σ_{u∈U_T} ‖p_u − Σ_{v∈N(u)} w̄_uv p_v‖²                           (neighbour coupling only)
  *     + λ (Σ_u ñ_u (‖p_u‖² + b_u²) + Σ_i ñ_i (‖q_i‖² + b_i²) + Σ_v ñ_v ‖z_v‖²)
  * </pre>
  *
  * where t_uv = 1 with confidence c_uv = 1 + α·w_uv on an observed edge and t_uv = 0 with c_uv = 1 on
  * every other cell of the m×m trust matrix (Hu, Koren, Volinsky, ICDM 2008), ñ_v counts the users
  * who trust v, and the Z term is present only with shared coupling (SoRec, Ma et al., CIKM 2008;
- * weighted-λ from Zhou et al., AAIM 2008). The sum over all m² trust cells is evaluated without
+ * weighted-λ from Zhou et al., AAIM 2008). The neighbour term runs over the users U_T who trust
+ * someone, with w̄ the trust weights normalised per truster (SocialMF, Jamali and Ester, RecSys 2010;
+ * see {@link NeighbourTerm}); β is the settings' trust weight. The sum over all m² trust cells is evaluated without
  * materialising T:
  *
  * <pre>
@@ -29,8 +33,21 @@ public final class Objective {
     private Objective() {
     }
 
+    /** Users per block of the rating sums: partial sums per block are added in block order. */
+    private static final int USERS_PER_BLOCK = 256;
+
     /** L at the model's parameters, with the model's settings (λ, τ, α, coupling, biases). */
     public static double value(TrainingData data, FittedModel model) {
+        try (Workers workers = new Workers(1)) {
+            return value(data, model, workers);
+        }
+    }
+
+    /**
+     * L computed with {@code workers}: the ratings and the users' regularisation are summed per fixed
+     * block of users, so the value is bitwise the same for any number of threads.
+     */
+    static double value(TrainingData data, FittedModel model, Workers workers) {
         FitSettings s = model.settings();
         RatingMatrix r = data.ratings();
         TrustGraph t = data.trust();
@@ -43,20 +60,32 @@ public final class Objective {
         int m = r.numUsers();
         int n = r.numItems();
 
-        double fit = 0;
         int[] start = r.userStart();
         int[] items = r.userItems();
         float[] values = r.userValues();
-        for (int u = 0; u < m; u++) {
-            for (int at = start[u]; at < start[u + 1]; at++) {
-                double e = values[at] - model.score(u, items[at]);
-                fit += e * e;
+        int blocks = (m + USERS_PER_BLOCK - 1) / USERS_PER_BLOCK;
+        double[] fitParts = new double[blocks];
+        double[] regParts = new double[blocks];
+        workers.forEachChunk(m, USERS_PER_BLOCK, 2 * USERS_PER_BLOCK, (w, from, to) -> {
+            for (int b = from / USERS_PER_BLOCK; b * USERS_PER_BLOCK < to; b++) {
+                double fit = 0;
+                double reg = 0;
+                for (int u = b * USERS_PER_BLOCK; u < Math.min(to, (b + 1) * USERS_PER_BLOCK); u++) {
+                    for (int at = start[u]; at < start[u + 1]; at++) {
+                        double e = values[at] - model.score(u, items[at]);
+                        fit += e * e;
+                    }
+                    reg += Math.max(r.userCount(u), 1) * (squaredNorm(p, u * k, k) + (double) bu[u] * bu[u]);
+                }
+                fitParts[b] = fit;
+                regParts[b] = reg;
             }
-        }
-
+        });
+        double fit = 0;
         double reg = 0;
-        for (int u = 0; u < m; u++) {
-            reg += Math.max(r.userCount(u), 1) * (squaredNorm(p, u * k, k) + (double) bu[u] * bu[u]);
+        for (int b = 0; b < blocks; b++) {
+            fit += fitParts[b];
+            reg += regParts[b];
         }
         for (int i = 0; i < n; i++) {
             reg += Math.max(r.itemCount(i), 1) * (squaredNorm(q, i * k, k) + (double) bi[i] * bi[i]);
@@ -88,6 +117,12 @@ public final class Objective {
                 }
                 trust = s.trustWeight() * (all + edges);
             }
+        }
+        if (s.coupling() == Coupling.NEIGHBOUR && s.trustWeight() > 0) {
+            double[] d = new double[m * k];
+            NeighbourTerm term = NeighbourTerm.of(t, s.trustWeight());
+            term.residual(p, k, d);
+            trust = term.value(d);
         }
         return fit + trust + s.lambda() * reg;
     }
@@ -123,6 +158,13 @@ public final class Objective {
             users.assemble(r.userItems(), r.userValues(), r.userStart()[u], r.userStart()[u + 1], t.trustees(),
                     t.outWeights(), t.outStart()[u], t.outStart()[u + 1], scratch);
             rowGradient(scratch, dim, p, model.userBias(), u, k, biases, x, g, gp, gbu);
+        }
+
+        if (s.coupling() == Coupling.NEIGHBOUR && s.trustWeight() > 0) {
+            double[] d = new double[m * k];
+            NeighbourTerm term = NeighbourTerm.of(t, s.trustWeight());
+            term.residual(p, k, d);
+            term.addGradient(d, k, gp);
         }
 
         double[] gq = new double[n * k];

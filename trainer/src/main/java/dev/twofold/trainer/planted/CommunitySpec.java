@@ -32,9 +32,9 @@ public record CommunitySpec(
     public static final int DEFAULT_RECIPES = 500;
     public static final int DEFAULT_COMMUNITIES = 8;
     public static final int DEFAULT_RANK = 6;
-    public static final double DEFAULT_NOISE = 0.5;
+    public static final double DEFAULT_NOISE = 0.4;
     public static final double DEFAULT_NEWCOMER_SHARE = 0.15;
-    public static final int DEFAULT_TYPICAL_RATINGS = 30;
+    public static final int DEFAULT_TYPICAL_RATINGS = 40;
     public static final int DEFAULT_FOLLOWS = 8;
     public static final double DEFAULT_FOLLOW_WITHIN_COMMUNITY = 0.85;
     public static final long DEFAULT_SEED = 7;

@@ -140,6 +140,11 @@ public final class PlantedCommunity {
         return Math.sqrt(sum / positions.length);
     }
 
+    /** The planted parameters behind every rating. */
+    Truth truth() {
+        return truth;
+    }
+
     /** The planted parameters: μ, b_u, b_i, and taste (P) and flavour (Q) vectors, row-major with stride k. */
     record Truth(double mean, double[] cookBias, double[] recipeQuality, double[] taste, double[] flavour) {
 

@@ -11,6 +11,7 @@ import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
 import dev.twofold.trainer.fit.FitSettings;
+import dev.twofold.trainer.sweep.SweepPoint;
 
 /**
  * The JSON objects stored with a model version, and the report of a run. Figures that were not
@@ -26,7 +27,9 @@ import dev.twofold.trainer.fit.FitSettings;
  *                 "policy": "auto", "rmseTolerance": 0.005, "precisionTolerance": 0.03,
  *                 "gatePassed": true, "verdict": "...",
  *                 "decision": "promoted", "candidate" or "rejected", "reason": "..."},
- *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0}}
+ *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0},
+ *  "tuning": null or {"why": "...", "chosen": {"rank", "lambda", "epochs"},
+ *             "sweep": [{"rank", "lambda", "validationRmse", "precision", "bestEpoch", "epochsRun", "seconds"}]}}
  * FIGURES = {"rows", "rmse", "mae", "rankedUsers", "precision", "recall", "ndcg", "map", "coverage"}
  * </pre>
  *
@@ -83,6 +86,7 @@ final class MetricsJson {
         comparison.put("decision", report.decision().label());
         comparison.put("reason", report.reason());
         root.set("training", training(report));
+        root.set("tuning", tuning(report));
         return root;
     }
 
@@ -118,7 +122,36 @@ final class MetricsJson {
         ArrayNode deleted = root.putArray("deleted");
         report.deleted().forEach(deleted::add);
         root.set("training", training(report));
+        root.set("tuning", tuning(report));
         return write(root);
+    }
+
+    /** How rank, λ and the epoch count were chosen, or null when they were given. */
+    private static ObjectNode tuning(TrainReport report) {
+        if (report.tuning() == null) {
+            return null;
+        }
+        TrainSettings settings = report.settings();
+        ObjectNode tuning = MAPPER.createObjectNode();
+        tuning.put("why", report.tuning());
+        ObjectNode chosen = tuning.putObject("chosen");
+        chosen.put("rank", settings.fit().rank());
+        chosen.put("lambda", settings.fit().lambda());
+        chosen.put("epochs", settings.fit().epochs());
+        ArrayNode points = tuning.putArray("sweep");
+        if (report.sweep() != null) {
+            for (SweepPoint p : report.sweep().points()) {
+                ObjectNode point = points.addObject();
+                point.put("rank", p.rank());
+                point.put("lambda", p.lambda());
+                number(point, "validationRmse", p.validationRmse());
+                number(point, "precision", p.precision());
+                point.put("bestEpoch", p.bestEpoch());
+                point.put("epochsRun", p.epochsRun());
+                point.put("seconds", p.seconds());
+            }
+        }
+        return tuning;
     }
 
     /**
@@ -151,7 +184,8 @@ final class MetricsJson {
     static String params(TrainSettings settings, PublishSettings publish) {
         FitSettings f = settings.fit();
         ObjectNode root = MAPPER.createObjectNode();
-        root.put("solver", "als");
+        root.put("solver", settings.solver().label());
+        root.put("split", settings.split().label());
         root.put("rank", f.rank());
         root.put("lambda", f.lambda());
         root.put("trustWeight", f.trustWeight());
@@ -167,6 +201,7 @@ final class MetricsJson {
         root.put("splitSeed", settings.splitSeed());
         root.put("relevance", settings.relevance());
         root.put("k", settings.k());
+        root.put("trainPatience", settings.patience());
         root.put("scaleMin", settings.scale().min());
         root.put("scaleMax", settings.scale().max());
         root.put("promote", publish.policy().label());

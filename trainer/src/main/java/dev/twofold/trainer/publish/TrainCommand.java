@@ -8,6 +8,10 @@ import dev.twofold.db.registry.RetrainLockedException;
 import dev.twofold.db.registry.Retention;
 import dev.twofold.trainer.fit.Coupling;
 import dev.twofold.trainer.fit.FitSettings;
+import dev.twofold.trainer.fit.SolverKind;
+import dev.twofold.trainer.progress.Progress;
+import dev.twofold.trainer.split.SplitMethod;
+import dev.twofold.trainer.sweep.Sweep;
 import java.io.PrintWriter;
 import java.util.Map;
 import java.util.concurrent.Callable;
@@ -19,10 +23,11 @@ import picocli.CommandLine.Spec;
 
 /**
  * {@code twofold train}: fits a model on everything in the database, judges it on held-out ratings
- * against the baselines and the live model, stores it and promotes it per {@code --promote}. One
- * retrain runs at a time (exit 75 when another holds the lock). Exit 0 whenever the run finished,
- * whatever it decided: the report (or {@code --json}'s {@code outcome}) says promoted, candidate or
- * rejected.
+ * against the baselines and the live model, stores it and promotes it per {@code --promote}. Without
+ * {@code --rank} or {@code --lambda} it first sweeps them on a validation split of the training
+ * ratings and says which it chose and why. One retrain runs at a time (exit 75 when another holds
+ * the lock). Exit 0 whenever the run finished, whatever it decided: the report (or {@code --json}'s
+ * {@code outcome}) says promoted, candidate or rejected.
  */
 @Command(name = "train", mixinStandardHelpOptions = true,
         description = {
@@ -52,32 +57,41 @@ public final class TrainCommand implements Callable<Integer> {
     @Spec
     CommandSpec spec;
 
-    @Option(names = "--rank", paramLabel = "K", description = "number of latent factors (default: ${DEFAULT-VALUE})")
-    int rank = FitSettings.DEFAULT_RANK;
+    @Option(names = "--rank", paramLabel = "K", description = "number of latent factors (default: chosen from 4, 8, 16 on a validation split)")
+    Integer rank;
 
-    @Option(names = "--lambda", paramLabel = "L", description = "regularisation per observation (default: ${DEFAULT-VALUE})")
-    float lambda = FitSettings.DEFAULT_LAMBDA;
+    @Option(names = "--lambda", paramLabel = "L", description = "regularisation per observation (default: chosen from 0.01, 0.02, 0.04 on a validation split)")
+    Float lambda;
 
-    @Option(names = "--trust-weight", paramLabel = "T", description = "weight of the trust matrix against the ratings (default: ${DEFAULT-VALUE})")
-    float trustWeight = FitSettings.DEFAULT_TRUST_WEIGHT;
+    @Option(names = "--coupling", paramLabel = "C", description = "how trust is used: shared (trust matrix factorised with the user factors), neighbour (user factors pulled towards those of trusted users) or none (default: ${DEFAULT-VALUE})")
+    String coupling = FitSettings.DEFAULT_COUPLING.label();
 
-    @Option(names = "--trust-alpha", paramLabel = "A", description = "confidence of an observed trust edge: 1 + A * weight (default: ${DEFAULT-VALUE})")
+    @Option(names = "--trust-weight", paramLabel = "W", description = "weight of the trust term: tau for shared, beta for neighbour (default: 0.3 for shared, 8 for neighbour)")
+    Float trustWeight;
+
+    @Option(names = "--trust-alpha", paramLabel = "A", description = "shared coupling: confidence of an observed trust edge, 1 + A * weight (default: ${DEFAULT-VALUE})")
     float trustAlpha = FitSettings.DEFAULT_TRUST_ALPHA;
 
-    @Option(names = "--epochs", paramLabel = "N", description = "training epochs (default: ${DEFAULT-VALUE})")
+    @Option(names = "--solver", paramLabel = "S", description = "als (alternating least squares), ccd (cyclic coordinate descent) or greedy (greedy coordinate descent) (default: ${DEFAULT-VALUE})")
+    String solver = TrainSettings.DEFAULT_SOLVER.label();
+
+    @Option(names = "--epochs", paramLabel = "N", description = "most training epochs (default: ${DEFAULT-VALUE})")
     int epochs = FitSettings.DEFAULT_EPOCHS;
+
+    @Option(names = "--patience", paramLabel = "N", description = "stop after N epochs without a better validation RMSE and fit the model for the best epoch count; 0 runs every epoch (default: ${DEFAULT-VALUE})")
+    int patience = TrainSettings.DEFAULT_PATIENCE;
 
     @Option(names = "--seed", paramLabel = "S", description = "seeds the initial factors; the held-out split always uses the same fixed seed (default: ${DEFAULT-VALUE})")
     long seed = FitSettings.DEFAULT_SEED;
+
+    @Option(names = "--split", paramLabel = "HOW", description = "how held-out ratings are chosen: user (a share of each user's ratings) or time (each user's latest) (default: ${DEFAULT-VALUE})")
+    String split = TrainSettings.DEFAULT_SPLIT.label();
 
     @Option(names = "--holdout", paramLabel = "F", description = "share of each user's ratings held out for evaluation (default: ${DEFAULT-VALUE})")
     double holdout = TrainSettings.DEFAULT_HOLDOUT;
 
     @Option(names = "--threads", paramLabel = "N", description = "worker threads; results do not depend on it (default: the number of processors)")
     int threads = Runtime.getRuntime().availableProcessors();
-
-    @Option(names = "--coupling", paramLabel = "C", description = "how trust is used: shared or none (default: ${DEFAULT-VALUE})")
-    String coupling = FitSettings.DEFAULT_COUPLING.label();
 
     @Option(names = "--relevance", paramLabel = "R", description = "a held-out rating at or above this counts as relevant (default: ${DEFAULT-VALUE})")
     float relevance = TrainSettings.defaults().relevance();
@@ -114,7 +128,7 @@ public final class TrainCommand implements Callable<Integer> {
         PrintWriter out = spec.commandLine().getOut();
         TrainJob job = null;
         try (Database database = Database.open(DatabaseSettings.fromEnvironment(environment))) {
-            job = new TrainJob(database, settings, publish);
+            job = new TrainJob(database, settings, publish, settings.solver().create(), Progress.forConsole("train"));
             TrainReport report = job.run();
             out.print(json ? report.toJson() + System.lineSeparator() : report.summary());
             out.flush();
@@ -150,9 +164,14 @@ public final class TrainCommand implements Callable<Integer> {
 
     TrainSettings settings() {
         try {
-            FitSettings fit = FitSettings.defaults().withRank(rank).withLambda(lambda).withTrust(trustWeight, trustAlpha)
-                    .withEpochs(epochs).withSeed(seed).withThreads(threads).withCoupling(Coupling.parse(coupling));
-            return TrainSettings.defaults().withFit(fit).withHoldout(holdout).withRanking(relevance, k);
+            Coupling c = Coupling.parse(coupling);
+            FitSettings fit = FitSettings.defaults().withRank(rank == null ? FitSettings.DEFAULT_RANK : rank)
+                    .withLambda(lambda == null ? FitSettings.DEFAULT_LAMBDA : lambda)
+                    .withTrust(trustWeight == null ? c.defaultTrustWeight() : trustWeight, trustAlpha)
+                    .withEpochs(epochs).withSeed(seed).withThreads(threads).withCoupling(c);
+            return TrainSettings.defaults().withFit(fit).withHoldout(holdout).withRanking(relevance, k)
+                    .withSolver(SolverKind.parse(solver)).withSplit(SplitMethod.parse(split)).withPatience(patience)
+                    .withSweep(rank == null ? Sweep.DEFAULT_RANKS : null, lambda == null ? Sweep.DEFAULT_LAMBDAS : null);
         } catch (IllegalArgumentException e) {
             throw new ParameterException(spec.commandLine(), "train: " + e.getMessage());
         }

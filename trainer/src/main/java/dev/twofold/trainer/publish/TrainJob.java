@@ -16,10 +16,14 @@ import dev.twofold.trainer.evaluate.Baselines;
 import dev.twofold.trainer.evaluate.Evaluator;
 import dev.twofold.trainer.evaluate.Scorer;
 import dev.twofold.trainer.evaluate.SegmentFigures;
-import dev.twofold.trainer.fit.AlsSolver;
 import dev.twofold.trainer.fit.EpochListener;
+import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
+import dev.twofold.trainer.progress.Progress;
+import dev.twofold.trainer.sweep.Sweep;
+import dev.twofold.trainer.sweep.SweepPoint;
+import dev.twofold.trainer.sweep.SweepResult;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.ArrayList;
@@ -39,10 +43,13 @@ import org.slf4j.LoggerFactory;
  *   <li><b>lock</b>: take the {@link RetrainLock} or stop at once (exit 75); versions left
  *       {@code training} by a trainer that died are marked {@code failed};
  *   <li><b>read</b> a consistent snapshot of all ratings and trust edges;
- *   <li><b>split</b> off the held-out ratings ({@link TrainSettings#holdout()}, a fixed split seed so
- *       every retrain is judged on the same rows) and build the matrices; register a new model
- *       version with status {@code training};
- *   <li><b>fit</b> the model on the training ratings and all trust edges;
+ *   <li><b>split</b> off the held-out ratings ({@link TrainSettings#holdout()}, by user or by time, a
+ *       fixed split seed so every retrain is judged on the same rows) and build the matrices;
+ *   <li><b>tune</b>: when rank or λ is to be chosen, or early stopping is on, cut a validation split
+ *       out of the training ratings (the same way, another seed), sweep the settings on it and
+ *       keep the one with the lowest validation RMSE, and its best epoch count; register a new
+ *       model version with status {@code training};
+ *   <li><b>fit</b> the model on all training ratings and all trust edges;
  *   <li><b>evaluate</b> it on the held-out ratings, and the <b>baselines</b> (global mean, biases only,
  *       most popular, the same model without trust);
  *   <li><b>compare</b>: the live model's stored factors are judged on the same held-out rows with the
@@ -74,25 +81,33 @@ public final class TrainJob {
     private final TrainSettings settings;
     private final PublishSettings publish;
     private final Solver solver;
+    private final Progress progress;
     private volatile Long modelId;
 
     public TrainJob(Database database, TrainSettings settings) {
-        this(database, settings, PublishSettings.defaults(), new AlsSolver());
+        this(database, settings, PublishSettings.defaults(), settings.solver().create(), Progress.silent());
     }
 
     public TrainJob(Database database, TrainSettings settings, Solver solver) {
-        this(database, settings, PublishSettings.defaults(), solver);
+        this(database, settings, PublishSettings.defaults(), solver, Progress.silent());
     }
 
     public TrainJob(Database database, TrainSettings settings, PublishSettings publish) {
-        this(database, settings, publish, new AlsSolver());
+        this(database, settings, publish, settings.solver().create(), Progress.silent());
     }
 
     public TrainJob(Database database, TrainSettings settings, PublishSettings publish, Solver solver) {
+        this(database, settings, publish, solver, Progress.silent());
+    }
+
+    /** @param progress shows how far the sweep and the fit have come */
+    public TrainJob(Database database, TrainSettings settings, PublishSettings publish, Solver solver,
+            Progress progress) {
         this.database = database;
         this.settings = settings;
         this.publish = publish;
         this.solver = solver;
+        this.progress = progress;
     }
 
     /** The version this run registered, once it has (so a caller can name it when the run fails). */
@@ -131,20 +146,28 @@ public final class TrainJob {
         TrainReport.Counts counts = new TrainReport.Counts(snapshot.numUsers(), snapshot.numItems(),
                 snapshot.numRatings(), snapshot.numTrustEdges(), data.train().nnz(), data.test().nnz(),
                 evaluator.coldUsersWithHeldOut());
-        long id = registry.create(draft(snapshot, (float) data.train().mean(), counts));
-        modelId = id;
         t = lap(phases, "split", t);
+        Tuning tuning = tune(data);
+        TrainSettings chosen = settings.withFit(tuning.fit());
+        if (tuning.sweep() != null) {
+            t = lap(phases, "tune", t);
+        }
+        long id = registry.create(draft(chosen, snapshot, (float) data.train().mean(), counts));
+        modelId = id;
         LOG.info("model {}: training on {} ratings, {} held out", id, counts.trainRatings(), counts.heldOutRatings());
         TrainReport report;
         try {
-            FittedModel model = solver.fit(data.trainingData(), settings.fit(), pauseAfterFirstEpoch());
+            Progress.Task fitting = progress.start("fit", chosen.fit().epochs());
+            FittedModel model = solver.fit(data.trainingData(), chosen.fit(), epochs(fitting));
+            fitting.finish("");
             requireFinite(model);
             t = lap(phases, "fit", t);
 
             SegmentFigures figures = evaluator.evaluate(Scorer.of(model));
             t = lap(phases, "evaluate", t);
+            progress.note("fitting and judging the baselines");
             float[] popularity = data.train().countAtLeast(settings.relevance());
-            BaselineFigures baselines = Baselines.evaluate(evaluator, data.trainingData(), settings.fit(), popularity,
+            BaselineFigures baselines = Baselines.evaluate(evaluator, data.trainingData(), chosen.fit(), popularity,
                     solver);
             t = lap(phases, "baselines", t);
 
@@ -170,9 +193,9 @@ public final class TrainJob {
             registry.storeFactors(id, StoredModel.factorsOf(model, popularity));
             t = lap(phases, "store", t);
 
-            report = new TrainReport(id, decision, reason, settings, publish, counts, phases, figures, baselines, liveId,
+            report = new TrainReport(id, decision, reason, chosen, publish, counts, phases, figures, baselines, liveId,
                     decision == Decision.PROMOTED ? Long.valueOf(id) : liveId, live, verdict, List.copyOf(notes), recovered,
-                    List.of(), model.history());
+                    List.of(), model.history(), tuning.why(), tuning.sweep());
             if (decision == Decision.PROMOTED) {
                 registry.finish(id, ModelRegistry.CANDIDATE, MetricsJson.metrics(report), reason);
                 PausePoint.reached("promote");
@@ -209,7 +232,49 @@ public final class TrainJob {
         return new TrainReport(id, report.decision(), report.reason(), settings, publish, counts,
                 Collections.unmodifiableMap(new LinkedHashMap<>(phases)), report.model(), report.baselines(),
                 report.liveModelId(), report.activeModelId(), report.live(), report.verdict(), report.notes(), recovered, deleted,
-                report.history());
+                report.history(), report.tuning(), report.sweep());
+    }
+
+    /** The fit settings to use, and why: the given ones, or a sweep's choice on a validation split. */
+    record Tuning(FitSettings fit, String why, SweepResult sweep) {
+    }
+
+    Tuning tune(HeldOutData data) {
+        FitSettings fit = settings.fit().withPatience(0);
+        if (!settings.sweeps() && settings.patience() == 0) {
+            return new Tuning(fit, null, null);
+        }
+        HeldOutData.Validation v = data.validation(settings);
+        if (v.rows().nnz() == 0) {
+            String why = "no validation split: too few ratings per user to hold any out; fitted rank " + fit.rank()
+                    + ", lambda " + fit.lambda() + " for " + fit.epochs() + " epochs";
+            progress.note(why);
+            return new Tuning(fit, why, null);
+        }
+        int[] ranks = settings.sweepRanks().length > 0 ? settings.sweepRanks() : new int[] {fit.rank()};
+        float[] lambdas = settings.sweepLambdas().length > 0 ? settings.sweepLambdas() : new float[] {fit.lambda()};
+        FitSettings base = fit.withPatience(Math.max(1, settings.patience()));
+        SweepResult sweep = Sweep.run(Sweep.withValidation(v.fit(), v.rows(), settings.scale().min(), settings.scale().max()),
+                v.rows(), solver, base, ranks, lambdas, settings.evaluation(), progress);
+        SweepPoint best = sweep.best();
+        FitSettings chosen = fit.withRank(best.rank()).withLambda(best.lambda())
+                .withEpochs(settings.patience() > 0 ? best.bestEpoch() : fit.epochs());
+        String why;
+        if (settings.sweeps()) {
+            why = String.format(Locale.ROOT, "%s given: swept %d settings on a validation split of the training ratings "
+                    + "(%,d fitting, %,d validation); %s", settings.sweepRanks().length > 0
+                    ? (settings.sweepLambdas().length > 0 ? "no --rank or --lambda" : "no --rank") : "no --lambda",
+                    sweep.points().size(), v.fit().ratings().nnz(), v.rows().nnz(), sweep.why());
+            if (settings.patience() > 0) {
+                why += String.format(Locale.ROOT, "; the model is fitted for %d epochs", chosen.epochs());
+            }
+        } else {
+            why = String.format(Locale.ROOT, "early stopping on a validation split of the training ratings: validation "
+                    + "RMSE was lowest (%.4f) at epoch %d of %d, so the model is fitted for %d epochs",
+                    best.validationRmse(), best.bestEpoch(), best.epochsRun(), chosen.epochs());
+        }
+        progress.note(why);
+        return new Tuning(chosen, why, sweep);
     }
 
     private Decision decide(QualityGate.Verdict verdict) {
@@ -234,7 +299,7 @@ public final class TrainJob {
     private static TrainReport withDecision(TrainReport r, Decision decision, String reason, Long active) {
         return new TrainReport(r.modelId(), decision, reason, r.settings(), r.publish(), r.counts(), r.phases(), r.model(),
                 r.baselines(), r.liveModelId(), active, r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(),
-                r.history());
+                r.history(), r.tuning(), r.sweep());
     }
 
     /** A caveat when the live model was split differently: it may have trained on some of these held-out rows. */
@@ -258,21 +323,22 @@ public final class TrainJob {
         }
     }
 
-    /** Logs each epoch and stops at the test pause point {@code fit} after the first one. */
-    private EpochListener pauseAfterFirstEpoch() {
+    /** Shows each epoch's progress and stops at the test pause point {@code fit} after the first one. */
+    private static EpochListener epochs(Progress.Task fitting) {
         return report -> {
-            LOG.debug("epoch {}: objective {}", report.epoch(), report.objective());
+            fitting.advance(report.epoch(), String.format(Locale.ROOT, "objective %.6g", report.objective()));
             if (report.epoch() == 1) {
                 PausePoint.reached("fit");
             }
         };
     }
 
-    private ModelHeader draft(Snapshot snapshot, float globalMean, TrainReport.Counts counts) {
-        return new ModelHeader(0, ModelRegistry.TRAINING, settings.fit().rank(), settings.fit().coupling().label(),
-                settings.fit().lambda(), settings.fit().trustWeight(), settings.fit().trustAlpha(), settings.scale().min(),
-                settings.scale().max(), globalMean, snapshot.numUsers(), snapshot.numItems(), Instant.now(), null,
-                MetricsJson.params(settings, publish), "{}", MetricsJson.counts(counts), null);
+    private ModelHeader draft(TrainSettings chosen, Snapshot snapshot, float globalMean, TrainReport.Counts counts) {
+        FitSettings f = chosen.fit();
+        return new ModelHeader(0, ModelRegistry.TRAINING, f.rank(), f.coupling().label(), f.lambda(), f.trustWeight(),
+                f.trustAlpha(), chosen.scale().min(), chosen.scale().max(), globalMean, snapshot.numUsers(),
+                snapshot.numItems(), Instant.now(), null, MetricsJson.params(chosen, publish), "{}",
+                MetricsJson.counts(counts), null);
     }
 
     private static void requireFinite(FittedModel model) {

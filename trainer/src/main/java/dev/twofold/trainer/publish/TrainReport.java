@@ -4,6 +4,7 @@ import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
 import dev.twofold.trainer.fit.EpochReport;
+import dev.twofold.trainer.sweep.SweepResult;
 import dev.twofold.trainer.fit.FitSettings;
 import java.time.Duration;
 import java.util.List;
@@ -17,7 +18,7 @@ import java.util.Map;
  * @param modelId     the stored model version
  * @param decision    promoted, kept as a candidate, or rejected
  * @param reason      why: the quality gate's finding, and the policy when it overrode the gate
- * @param settings    how the model was trained and evaluated
+ * @param settings    how the model was trained and evaluated (after tuning: the rank, λ and epochs used)
  * @param publish     promotion policy, gate tolerances and retention of the run
  * @param counts      data counts (users, items, ratings, trust edges, training and held-out ratings, ...)
  * @param phases      wall time per phase, in pipeline order
@@ -31,6 +32,8 @@ import java.util.Map;
  * @param recovered   versions left {@code training} by a trainer that died, marked failed at the start
  * @param deleted     versions deleted by retention at the end
  * @param history     one report per training epoch
+ * @param tuning      how rank, λ and the epoch count were chosen, or null when they were given
+ * @param sweep       the sweep behind that choice, or null
  */
 public record TrainReport(
         long modelId,
@@ -49,7 +52,9 @@ public record TrainReport(
         List<String> notes,
         List<Long> recovered,
         List<Long> deleted,
-        List<EpochReport> history) {
+        List<EpochReport> history,
+        String tuning,
+        SweepResult sweep) {
 
     /** Data counts of a retrain. */
     public record Counts(int users, int items, int ratings, int trustEdges, int trainRatings, int heldOutRatings,
@@ -93,6 +98,9 @@ public record TrainReport(
                 + " %,d cold users (≤ %d training ratings) with held-out ratings%n",
                 counts.users(), counts.items(), counts.ratings(), counts.trainRatings(), counts.heldOutRatings(),
                 counts.trustEdges(), counts.coldUsers(), settings.evaluation().coldMaxRatings()));
+        if (tuning != null) {
+            s.append("tuning: ").append(tuning).append(System.lineSeparator());
+        }
         FitSettings f = settings.fit();
         s.append(String.format(Locale.ROOT, "parameters: rank %d, lambda %s, coupling %s (trust weight %s, alpha %s), %d epochs,"
                 + " seed %d, holdout %s; relevant ≥ %s, k %d%n", f.rank(), plain(f.lambda()), f.coupling().label(),

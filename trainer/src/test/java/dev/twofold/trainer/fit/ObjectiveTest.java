@@ -22,7 +22,8 @@ class ObjectiveTest {
     private static final double GRADIENT_AGREEMENT = 1e-6;
     private static final float STEP = 1f / 64;
 
-    private static final FitSettings SHARED = FitSettings.defaults().withRank(3).withLambda(0.3f).withTrust(0.7f, 4f);
+    private static final FitSettings SHARED = FitSettings.defaults().withRank(3).withLambda(0.3f).withCoupling(Coupling.SHARED)
+            .withTrust(0.7f, 4f);
 
     @Test
     void gram_trick_objective_equals_the_sum_over_every_cell_of_a_dense_trust_matrix() {
@@ -38,6 +39,24 @@ class ObjectiveTest {
     void gradient_matches_central_differences_with_shared_trust_factors() {
         TrainingData data = RandomProblems.problem(6, 5, 0.5, 2, 5);
         checkGradient(data, RandomProblems.randomModel(data, SHARED, 0.8, 9));
+    }
+
+    @Test
+    void gradient_matches_central_differences_with_neighbour_regularisation() {
+        TrainingData data = RandomProblems.problem(6, 5, 0.5, 3, 7);
+        FitSettings neighbour = SHARED.withCoupling(Coupling.NEIGHBOUR).withTrust(1.3f, 0f);
+        checkGradient(data, RandomProblems.randomModel(data, neighbour, 0.8, 12));
+    }
+
+    @Test
+    void neighbour_objective_equals_the_term_by_term_sum() {
+        TrainingData data = RandomProblems.problem(7, 5, 0.5, 3, 4);
+        FitSettings neighbour = SHARED.withCoupling(Coupling.NEIGHBOUR).withTrust(1.3f, 0f);
+        for (long seed = 1; seed <= 3; seed++) {
+            FittedModel model = RandomProblems.randomModel(data, neighbour, 0.8, seed);
+            double brute = bruteForce(data, model);
+            assertEquals(brute, Objective.value(data, model), VALUE_AGREEMENT * brute);
+        }
     }
 
     @Test
@@ -135,6 +154,30 @@ class ObjectiveTest {
                 }
             }
             total += s.trustWeight() * trust;
+        }
+        if (s.coupling() == Coupling.NEIGHBOUR) {
+            // β Σ_u ‖p_u − Σ_v (w_uv / Σ_v' w_uv') p_v‖² over users who trust someone, from a dense W
+            double[][] w = new double[m][m];
+            for (int u = 0; u < m; u++) {
+                for (int at = t.outStart()[u]; at < t.outStart()[u + 1]; at++) {
+                    w[u][t.trustees()[at]] = t.outWeights()[at];
+                }
+            }
+            double term = 0;
+            for (int u = 0; u < m; u++) {
+                double rowSum = Arrays.stream(w[u]).sum();
+                if (rowSum == 0) {
+                    continue;
+                }
+                for (int a = 0; a < k; a++) {
+                    double d = p[u * k + a];
+                    for (int v = 0; v < m; v++) {
+                        d -= w[u][v] / rowSum * p[v * k + a];
+                    }
+                    term += d * d;
+                }
+            }
+            total += s.trustWeight() * term;
         }
         double reg = 0;
         for (int u = 0; u < m; u++) {

@@ -21,9 +21,11 @@ import dev.twofold.db.registry.Retention;
 import dev.twofold.db.snapshot.SnapshotReader;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.trainer.fit.AlsSolver;
+import dev.twofold.trainer.fit.Coupling;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.sweep.SweepPoint;
 import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.nio.file.Path;
@@ -43,7 +45,9 @@ class TrainJobTest {
 
     private static final ObjectMapper JSON = new ObjectMapper();
     /** A few epochs keep the test quick; the figures only need to be real, not tuned. */
-    private static final TrainSettings QUICK = TrainSettings.defaults().withFit(FitSettings.defaults().withEpochs(6));
+    private static final TrainSettings QUICK = TrainSettings.defaults().withFit(FitSettings.defaults()
+            .withCoupling(Coupling.SHARED).withTrust(Coupling.SHARED.defaultTrustWeight(), FitSettings.DEFAULT_TRUST_ALPHA)
+            .withEpochs(6)).withPatience(0);
     /** Rank 1 with a huge λ: a model that can only be worse than a tuned one. */
     private static final TrainSettings WORSE = QUICK.withFit(QUICK.fit().withRank(1).withLambda(50f));
 
@@ -132,6 +136,30 @@ class TrainJobTest {
         assertEquals("rejected", comparison.get("decision").asText());
         assertTrue(JSON.readTree(header.metricsJson()).at("/live/overall/precision").isNumber());
         assertTrue(report.summary().contains("live " + firstModel + " "), report.summary());
+    }
+
+    @Test
+    @Order(99)
+    void without_rank_and_lambda_the_job_sweeps_on_a_validation_split_and_stores_its_choice() throws Exception {
+        TrainSettings tuned = QUICK.withFit(QUICK.fit().withCoupling(Coupling.NEIGHBOUR)
+                .withTrust(Coupling.NEIGHBOUR.defaultTrustWeight(), 0f)).withPatience(1)
+                .withSweep(new int[] {2, 4}, new float[] {0.04f, 0.5f});
+        // kept as a candidate, so the versions the lifecycle tests above count stay as they were
+        TrainReport report = new TrainJob(database, tuned, PublishSettings.defaults().withPolicy(PromotionPolicy.NEVER)).run();
+        assertNotNull(report.sweep());
+        assertEquals(4, report.sweep().points().size());
+        SweepPoint best = report.sweep().best();
+        assertTrue(report.tuning().contains("no --rank or --lambda given: swept 4 settings"), report.tuning());
+        assertTrue(report.summary().contains("tuning: "), report.summary());
+        ModelHeader header = new ModelRegistry(database).find(report.modelId()).orElseThrow();
+        assertEquals(best.rank(), header.rank());
+        assertEquals(best.lambda(), header.lambda());
+        assertEquals("neighbour", header.coupling());
+        JsonNode metrics = JSON.readTree(header.metricsJson());
+        assertEquals(best.bestEpoch(), metrics.at("/tuning/chosen/epochs").asInt());
+        assertEquals(best.bestEpoch(), metrics.at("/training/epochs").asInt(), "the model is fitted for the best epoch count");
+        assertEquals(4, metrics.at("/tuning/sweep").size());
+        assertEquals("als", JSON.readTree(header.paramsJson()).get("solver").asText());
     }
 
     @Test

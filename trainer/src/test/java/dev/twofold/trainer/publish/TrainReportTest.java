@@ -11,6 +11,9 @@ import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
 import dev.twofold.trainer.fit.EpochReport;
+import dev.twofold.trainer.fit.FitSettings;
+import dev.twofold.trainer.sweep.SweepPoint;
+import dev.twofold.trainer.sweep.SweepResult;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.LinkedHashMap;
@@ -37,7 +40,30 @@ class TrainReportTest {
                         new SegmentFigures(RANKING, RANKING), null),
                 live, decision == Decision.PROMOTED ? Long.valueOf(3) : live, live == null ? null : new SegmentFigures(LIVE, LIVE),
                 new QualityGate.Verdict(live == null, live == null ? "no model is live" : "held-out RMSE is above"),
-                List.of(), List.of(1L), List.of(), List.of(new EpochReport(1, 123.4, Double.NaN, 0)));
+                List.of(), List.of(1L), List.of(), List.of(new EpochReport(1, 123.4, Double.NaN, 0)), null, null);
+    }
+
+    private static TrainReport tuned() {
+        TrainReport r = report(Decision.PROMOTED, "quality gate passed: no model is live", null);
+        SweepResult sweep = new SweepResult(List.of(new SweepPoint(4, 0.02f, 0.91, 0.05, 7, 9, 1.5),
+                new SweepPoint(8, 0.02f, 0.88, 0.06, 12, 14, 2.5)), 10);
+        TrainSettings chosen = r.settings().withFit(r.settings().fit().withRank(8).withEpochs(12));
+        return new TrainReport(r.modelId(), r.decision(), r.reason(), chosen, r.publish(), r.counts(), r.phases(),
+                r.model(), r.baselines(), r.liveModelId(), r.activeModelId(), r.live(), r.verdict(), r.notes(),
+                r.recovered(), r.deleted(), r.history(), "no --rank given: " + sweep.why(), sweep);
+    }
+
+    @Test
+    void a_tuned_report_says_what_was_chosen_and_keeps_the_sweep_in_its_metrics() throws Exception {
+        TrainReport report = tuned();
+        assertTrue(report.summary().contains("tuning: no --rank given: chose rank 8, lambda 0.02: lowest validation "
+                + "RMSE 0.8800 of 2 settings"), report.summary());
+        JsonNode json = new ObjectMapper().readTree(MetricsJson.metrics(report));
+        assertEquals(8, json.at("/tuning/chosen/rank").asInt());
+        assertEquals(12, json.at("/tuning/chosen/epochs").asInt());
+        assertEquals(2, json.at("/tuning/sweep").size());
+        assertEquals(0.91, json.at("/tuning/sweep/0/validationRmse").asDouble(), 0.0);
+        assertEquals(8, JSON.readTree(report.toJson()).at("/tuning/chosen/rank").asInt(), "the --json report has it too");
     }
 
     @Test
@@ -46,7 +72,9 @@ class TrainReportTest {
         assertTrue(text.startsWith("model 3: promoted to active (the first live model)\n  quality gate passed: no model is live\n"),
                 text);
         assertTrue(text.contains("400 ratings (320 train, 80 held out), 90 trust edges"), text);
-        assertTrue(text.contains("parameters: rank 8, lambda 0.04, coupling shared"), text);
+        FitSettings fit = TrainSettings.defaults().fit();
+        assertTrue(text.contains("parameters: rank " + fit.rank() + ", lambda " + fit.lambda() + ", coupling "
+                + fit.coupling().label()), text);
         assertTrue(text.contains("promotion: --promote auto; gate: RMSE at most +0.5%, precision@10 at most -3%"), text);
         assertTrue(text.contains("fit 2.50s"), text);
         assertTrue(text.contains("total 2.62s"), text);
@@ -79,6 +107,7 @@ class TrainReportTest {
         assertEquals("auto", json.at("/comparison/policy").asText());
         assertFalse(json.at("/comparison/gatePassed").asBoolean());
         assertEquals(1, json.at("/training/epochs").asInt());
+        assertTrue(json.at("/tuning").isNull());
     }
 
     @Test
