@@ -42,6 +42,18 @@ public final class LiveModels {
     private final int capacity;
     private final Clock clock;
 
+    /** Told after every swap: the model now answering and how long the swap took (for metrics). */
+    public interface InstallListener {
+        void installed(ServingModel model, long swapNanos);
+    }
+
+    private volatile InstallListener installListener = (model, nanos) -> { };
+
+    /** Sets who is told of every swap (one listener; the service's operator view). */
+    public void onInstall(InstallListener listener) {
+        installListener = listener == null ? (model, nanos) -> { } : listener;
+    }
+
     /** @param capacity most users kept folded in per model */
     public LiveModels(int capacity) {
         this(capacity, Clock.systemUTC());
@@ -74,12 +86,14 @@ public final class LiveModels {
         if (next == null) {
             throw new IllegalArgumentException("model must not be null");
         }
+        long started = System.nanoTime();
         synchronized (installs) {
             LiveModel old = current.get();
             if (old == null) {
                 synchronized (writes) {
                     current.set(new LiveModel(next, new FreshUsers(capacity), new ConcurrentHashMap<>()));
                 }
+                installListener.installed(next, System.nanoTime() - started);
                 return Optional.empty();
             }
             long cutoff = next.header().createdAt().toEpochMilli() - REBASE_MARGIN.toMillis();
@@ -109,6 +123,7 @@ public final class LiveModels {
                 }
                 current.set(new LiveModel(next, rebased, erased));
             }
+            installListener.installed(next, System.nanoTime() - started);
             return Optional.of(old.model());
         }
     }

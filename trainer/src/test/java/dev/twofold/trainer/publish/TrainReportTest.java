@@ -49,8 +49,8 @@ class TrainReportTest {
                 new SweepPoint(8, 0.02f, 0.88, 0.06, 12, 14, 2.5)), 10);
         TrainSettings chosen = r.settings().withFit(r.settings().fit().withRank(8).withEpochs(12));
         return new TrainReport(r.modelId(), r.decision(), r.reason(), chosen, r.publish(), r.counts(), r.phases(),
-                r.model(), r.baselines(), r.liveModelId(), r.activeModelId(), r.live(), r.verdict(), r.notes(),
-                r.recovered(), r.deleted(), r.history(), "no --rank given: " + sweep.why(), sweep);
+                r.model(), r.baselines(), r.liveModelId(), r.activeModelId(), r.live(), r.verdict(), r.notes(), r.recovered(),
+                r.deleted(), r.history(), "no --rank given: " + sweep.why(), sweep);
     }
 
     @Test
