@@ -90,9 +90,14 @@ class LauncherIT {
                 data.resolve("ratings.csv").toString(), "--trust", data.resolve("trust.csv").toString());
         assertEquals(0, imported.exitCode(), imported.describe());
 
-        LauncherProcess trained = LauncherProcess.run(env, work, "train", "--epochs", "8");
+        LauncherProcess trained = LauncherProcess.run(env, work, "train", "--epochs", "8", "--rank", "8",
+                "--lambda", "0.05", "--json");
         assertEquals(0, trained.exitCode(), trained.describe());
+        // standard output is the report alone, one JSON document a pipeline can read; logs go to stderr
+        JsonNode report = JSON.readTree(trained.stdout());
+        assertEquals("promoted", report.get("outcome").asText(), trained.describe());
         long activeId = new ModelRegistry(database).active().orElseThrow().id();
+        assertEquals(activeId, report.get("modelId").asLong());
 
         int port = LauncherProcess.freePort();
         try (LauncherProcess serve = LauncherProcess.start(
