@@ -7,6 +7,7 @@ import dev.twofold.db.ingest.ImportCommand;
 import dev.twofold.db.ingest.UsersCommand;
 import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.publish.ModelsCommand;
 import dev.twofold.trainer.publish.TrainCommand;
 import dev.twofold.trainer.sweep.SweepCommand;
 import java.io.PrintWriter;
@@ -25,6 +26,7 @@ import picocli.CommandLine.Command;
         description = "Recommendations from ratings coupled with trust: import, train, serve.",
         subcommands = {
             ServeCommand.class,
+            ModelsCommand.class,
             ImportCommand.class,
             TrainCommand.class,
             DemoDataCommand.class,
@@ -48,11 +50,6 @@ public final class Twofold {
 
     static CommandLine commandLine() {
         CommandLine cli = new CommandLine(new Twofold());
-        for (NotBuilt.Spec spec : NotBuilt.SPECS) {
-            CommandLine sub = new CommandLine(new NotBuilt(spec));
-            sub.getCommandSpec().usageMessage().description(spec.purpose() + " (not built yet)");
-            cli.addSubcommand(spec.name(), sub);
-        }
         cli.setExecutionExceptionHandler(Twofold::onFailure);
         return cli;
     }

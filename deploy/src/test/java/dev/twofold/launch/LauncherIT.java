@@ -148,16 +148,6 @@ class LauncherIT {
         assertEquals(before, count("ratings"), "nothing written");
     }
 
-    @Test
-    void commands_not_built_yet_say_so_and_exit_2() throws Exception {
-        for (String command : List.of("models", "sweep")) {
-            LauncherProcess p = LauncherProcess.run(env, work, command);
-            if (p.stderr().contains("not built yet")) {
-                assertEquals(2, p.exitCode(), p.describe());
-            }
-        }
-    }
-
     private static JsonNode getJson(String url) throws Exception {
         HttpResponse<String> r = HTTP.send(HttpRequest.newBuilder(URI.create(url)).build(),
                 HttpResponse.BodyHandlers.ofString());

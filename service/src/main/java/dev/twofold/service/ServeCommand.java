@@ -3,10 +3,6 @@ package dev.twofold.service;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
 import dev.twofold.service.http.AccessPolicy;
-import dev.twofold.service.model.ModelLoader;
-import dev.twofold.service.ops.Observability;
-import dev.twofold.service.ops.OpsSettings;
-import java.time.Clock;
 import java.util.Map;
 import java.util.concurrent.Callable;
 import java.util.concurrent.CountDownLatch;
@@ -16,8 +12,8 @@ import picocli.CommandLine.Command;
 
 /**
  * {@code twofold serve}: opens the database, loads the active model (or waits for a first one,
- * live but not ready), serves HTTP until SIGTERM or SIGINT, then drains requests in flight and
- * closes everything in reverse order.
+ * live but not ready), serves HTTP and follows promotions until SIGTERM or SIGINT, then drains
+ * requests in flight and closes everything in reverse order.
  */
 @Command(
         name = "serve",
@@ -27,7 +23,10 @@ import picocli.CommandLine.Command;
         footer = {
             "  TWOFOLD_HTTP_HOST   interface to listen on (default " + ServiceSettings.DEFAULT_HOST + ")",
             "  TWOFOLD_HTTP_PORT   port, 0..65535, 0 picks a free one (default " + ServiceSettings.DEFAULT_PORT + ")",
+            "  TWOFOLD_FRESH_USERS most users kept folded in between model loads (default "
+                    + ServiceSettings.DEFAULT_FRESH_USERS + ")",
             "  TWOFOLD_DB_URL, TWOFOLD_DB_USER, TWOFOLD_DB_PASSWORD, TWOFOLD_DATA_DIR   the database",
+            "  JAVA_OPTS           include --add-modules jdk.incubator.vector for the SIMD scoring kernel",
             "The API is described by GET /openapi.yaml."
         })
 public final class ServeCommand implements Callable<Integer> {
@@ -60,28 +59,22 @@ public final class ServeCommand implements Callable<Integer> {
         ServiceSettings settings = ServiceSettings.fromEnvironment(env);
         DatabaseSettings databaseSettings = DatabaseSettings.fromEnvironment(env);
         try (Database database = Database.open(databaseSettings);
-                Observability ops = new Observability(OpsSettings.defaults(), database, Clock.systemUTC());
-                Service service = new Service(settings, AccessPolicy.OPEN, ops);
-                ModelWatcher watcher = new ModelWatcher(new ModelLoader(database)::loadActive, service,
-                        settings.modelPollInterval())) {
+                Service service = new Service(settings, AccessPolicy.OPEN, database)) {
             Thread hook = new Thread(this::stopAndWait, "twofold-serve-stop");
             if (stopOnSignal) {
                 Runtime.getRuntime().addShutdownHook(hook);
             }
-            boolean ready = watcher.check();
             port = service.start();
             LOG.info("Twofold serving on http://{}:{} ({}); database {}", settings.host(), port,
-                    ready ? "model " + service.model().orElseThrow().id() : "waiting for a first model",
+                    service.model().map(m -> "model " + m.id()).orElse("waiting for a first model"),
                     database.description());
-            if (!ready) {
-                watcher.start();
-            }
             awaitStop();
             LOG.info("stopping: finishing requests in flight (up to {} ms)", settings.stopTimeout().toMillis());
         } finally {
+            // log before letting a waiting shutdown hook return: the JVM may halt right after it
+            LOG.info("stopped");
             stopped.countDown();
         }
-        LOG.info("stopped");
         return 0;
     }
 

@@ -1,67 +1,130 @@
 package dev.twofold.service;
 
+import dev.twofold.db.connect.Database;
+import dev.twofold.db.registry.ModelRegistry;
+import dev.twofold.service.fresh.Intake;
+import dev.twofold.service.fresh.LiveModel;
+import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.HttpApi;
+import dev.twofold.service.http.ServingObserver;
+import dev.twofold.service.model.ModelLoader;
+import dev.twofold.service.model.ModelSource;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.ops.Observability;
 import dev.twofold.service.ops.OpsSettings;
+import dev.twofold.service.scoring.Ranker;
+import dev.twofold.service.scoring.Strategy;
 import java.time.Clock;
+import java.util.List;
 import java.util.Optional;
-import java.util.concurrent.atomic.AtomicReference;
+import java.util.UUID;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.RejectedExecutionException;
+import java.util.concurrent.TimeUnit;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
 /**
- * The running service: the HTTP API and the model it answers from. The model sits in an
- * {@link AtomicReference}; {@link #install} replaces it in one step, so every request sees one
- * whole model, the old or the new. Until a model is installed the service is live but not ready:
+ * The running service: the HTTP API, the model it answers from and, with a database, what keeps
+ * that model current. The model and the users folded into it since it was loaded are one
+ * {@link LiveModel}, replaced in one step ({@link #install}), so every request sees one whole
+ * model, the old or the new. Until a model is installed the service is live but not ready:
  * {@code /v1} reads and {@code /health/ready} answer 503.
  *
+ * <p>With a database, the service also takes ratings and trust edges (committed, then folded in),
+ * offers the model admin routes, and follows the active model: at {@link #start()} it loads the
+ * active model if there is one, then switches whenever a promotion or rollback is announced
+ * (PostgreSQL {@code LISTEN}) or found by polling every {@link ServiceSettings#modelPollInterval()};
+ * a user erased by any process is dropped from memory when the erasure is announced, and users
+ * who wrote through another service on the same database are folded in here too.
+ *
+ * <p>Every service has its operator view ({@link Observability}): {@code GET /metrics},
+ * {@code GET /dashboard}, request ids and the request log; with a database it also measures the
+ * connection pool and reads the retrain history from the model registry.
+ *
  * <p>Lifecycle: construct, {@link #start()} once, {@link #close()} (safe to call again, and
- * without a start). Closing stops accepting connections and lets requests in flight finish for up
- * to {@link ServiceSettings#stopTimeout()}.
+ * without a start). Closing stops following models, stops accepting connections and lets
+ * requests in flight finish for up to {@link ServiceSettings#stopTimeout()}. The database belongs
+ * to the caller.
  */
 public final class Service implements AutoCloseable {
 
     private static final Logger LOG = LoggerFactory.getLogger(Service.class);
+    private static final long CLOSE_WAIT_MS = 5_000;
 
     private final ServiceSettings settings;
-    private final AtomicReference<ServingModel> model = new AtomicReference<>();
+    private final LiveModels live;
+    private final Ranker ranker = new Ranker();
+    private final ModelWatcher watcher;
+    private final DatabaseNotifications listener;
     private final HttpApi http;
     private final Observability ops;
-    private final boolean ownsOps;
+    private final ExecutorService refresher = Executors.newSingleThreadExecutor(task -> {
+        Thread t = new Thread(task, "twofold-refresh");
+        t.setDaemon(true);
+        return t;
+    });
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
 
-    /** A service that admits every request (no API keys yet). */
+    /** A service without a database that admits every request: models are {@link #install}ed by the caller. */
     public Service(ServiceSettings settings) {
         this(settings, AccessPolicy.OPEN);
     }
 
-    /** A service with its own operator view (metrics, request log, dashboard) and no retrain history. */
+    /** A service without a database: models are {@link #install}ed by the caller. */
     public Service(ServiceSettings settings, AccessPolicy access) {
-        this(settings, access, new Observability(OpsSettings.defaults(), null, Clock.systemUTC()), true);
+        this(settings, access, null, null, ServingObserver.NONE);
+    }
+
+    /** A service on a database, following its active model. */
+    public Service(ServiceSettings settings, AccessPolicy access, Database database) {
+        this(settings, access, database, OpsSettings.defaults());
     }
 
     /**
-     * @param ops the operator's view (metrics, request log, dashboard); it belongs to the caller,
-     *            who closes it after the service
+     * A service on a database (following its active model), or without one (null), whose
+     * operator view samples and refreshes as {@code opsSettings} says.
      */
-    public Service(ServiceSettings settings, AccessPolicy access, Observability ops) {
-        this(settings, access, ops, false);
-    }
-
-    private Service(ServiceSettings settings, AccessPolicy access, Observability ops, boolean ownsOps) {
-        this.settings = settings;
-        this.ops = ops;
-        this.ownsOps = ownsOps;
-        this.http = new HttpApi(model::get, access, ops.observer(), ops::configure, settings.stopTimeout(),
-                settings.retryAfterSeconds());
+    public Service(ServiceSettings settings, AccessPolicy access, Database database, OpsSettings opsSettings) {
+        this(settings, access, database, database == null ? null : new ModelLoader(database), ServingObserver.NONE,
+                opsSettings);
     }
 
     /**
-     * Binds {@link ServiceSettings#host()}:{@link ServiceSettings#port()} and starts serving.
+     * @param database where data is written and models are administered, or null for none
+     * @param models   where the active model is found and loaded, or null to install models by hand
+     * @param observer told of every request and recommendation, besides the service's own metrics
+     */
+    public Service(ServiceSettings settings, AccessPolicy access, Database database, ModelSource models,
+            ServingObserver observer) {
+        this(settings, access, database, models, observer, OpsSettings.defaults());
+    }
+
+    /** As above, with the operator view sampling and refreshing as {@code opsSettings} says. */
+    public Service(ServiceSettings settings, AccessPolicy access, Database database, ModelSource models,
+            ServingObserver observer, OpsSettings opsSettings) {
+        this.settings = settings;
+        this.ops = new Observability(opsSettings, database, Clock.systemUTC());
+        this.live = new LiveModels(settings.freshUsers(), ops.liveModelListener());
+        this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
+        Intake intake = database == null ? null : new Intake(database, live, origin());
+        this.listener = database == null ? null : new DatabaseNotifications(database,
+                watcher == null ? () -> { } : watcher::checkSoon, live::forget, payload -> refreshLater(intake, payload),
+                settings.modelPollInterval());
+        RegistryControl control = database == null ? null
+                : new RegistryControl(new ModelRegistry(database), watcher == null ? () -> { } : watcher::checkSoon);
+        this.http = new HttpApi(live::current, ranker, intake, control, access, both(ops.observer(), observer),
+                ops::configure, settings.stopTimeout(), settings.retryAfterSeconds());
+    }
+
+    /**
+     * Loads the active model when the service follows one (a failure is logged; the service then
+     * starts not ready and keeps trying), binds {@link ServiceSettings#host()}:{@link
+     * ServiceSettings#port()}, starts serving, then starts following promotions.
      *
      * @return the bound port (the chosen one when the setting is 0)
      * @throws ServiceStartException when the address cannot be bound
@@ -73,6 +136,9 @@ public final class Service implements AutoCloseable {
                 throw new IllegalStateException(closed ? "the service is closed" : "the service is already started");
             }
             started = true;
+            if (watcher != null) {
+                watcher.check();
+            }
             int port;
             try {
                 port = http.start(settings.host(), settings.port());
@@ -81,6 +147,18 @@ public final class Service implements AutoCloseable {
                         + " (" + e.getMessage() + "); free the port or set " + ServiceSettings.PORT_VARIABLE + "/"
                         + ServiceSettings.HOST_VARIABLE, e);
             }
+            if (ranker.engine().simd()) {
+                LOG.info("scoring with {}", ranker.engine().description());
+            } else {
+                LOG.warn("scoring with {}; ranking is several times slower without the SIMD kernel",
+                        ranker.engine().description());
+            }
+            if (watcher != null) {
+                watcher.start();
+            }
+            if (listener != null) {
+                listener.start();
+            }
             ops.start();
             return port;
         }
@@ -88,19 +166,19 @@ public final class Service implements AutoCloseable {
 
     /** Makes {@code next} the model that answers requests from now on; returns the one it replaced, if any. */
     public Optional<ServingModel> install(ServingModel next) {
-        if (next == null) {
-            throw new IllegalArgumentException("model must not be null");
-        }
-        long swapStarted = System.nanoTime();
-        ServingModel previous = model.getAndSet(next);
-        ops.modelInstalled(next.header(), System.nanoTime() - swapStarted);
+        Optional<ServingModel> previous = live.install(next);
         LOG.info("serving model {} ({} items, rank {})", next.id(), next.numItems(), next.rank());
-        return Optional.ofNullable(previous);
+        return previous;
     }
 
     /** The model answering requests now, if one is loaded. */
     public Optional<ServingModel> model() {
-        return Optional.ofNullable(model.get());
+        return live.model();
+    }
+
+    /** The model and the users folded into it, as requests see it now (null before a model). */
+    public LiveModel live() {
+        return live.current();
     }
 
     /** Requests being handled right now. */
@@ -108,7 +186,49 @@ public final class Service implements AutoCloseable {
         return http.inFlightRequests();
     }
 
-    /** Stops serving gracefully; later calls do nothing. */
+    /** Every HTTP route as {@code "METHOD /path/{param}"}. */
+    public List<String> routes() {
+        return http.routes();
+    }
+
+    /** The operator view's observer, and the caller's when there is one. */
+    private static ServingObserver both(ServingObserver own, ServingObserver other) {
+        if (other == ServingObserver.NONE) {
+            return own;
+        }
+        return new ServingObserver() {
+            @Override
+            public void requestFinished(String method, String route, int status, float millis) {
+                own.requestFinished(method, route, status, millis);
+                other.requestFinished(method, route, status, millis);
+            }
+
+            @Override
+            public void recommended(Strategy strategy, boolean folded) {
+                own.recommended(strategy, folded);
+                other.recommended(strategy, folded);
+            }
+        };
+    }
+
+    /** Folds in, off the listener's thread, the users another service announced as written. */
+    private void refreshLater(Intake intake, String payload) {
+        List<String> users = intake.announcedByOthers(payload);
+        if (!users.isEmpty()) {
+            try {
+                refresher.execute(() -> intake.refresh(users));
+            } catch (RejectedExecutionException e) {
+                // closing
+            }
+        }
+    }
+
+    /** This process and service, for telling its own write announcements from others'. */
+    private static String origin() {
+        return ProcessHandle.current().pid() + "-" + UUID.randomUUID();
+    }
+
+    /** Stops gracefully; later calls do nothing. */
     @Override
     public void close() {
         synchronized (lifecycle) {
@@ -116,12 +236,24 @@ public final class Service implements AutoCloseable {
                 return;
             }
             closed = true;
+            if (listener != null) {
+                listener.close();
+            }
+            if (watcher != null) {
+                watcher.close();
+            }
+            refresher.shutdownNow();
+            try {
+                if (!refresher.awaitTermination(CLOSE_WAIT_MS, TimeUnit.MILLISECONDS)) {
+                    LOG.warn("folding in announced writes was still running {} ms after stop was asked", CLOSE_WAIT_MS);
+                }
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
             if (started) {
                 http.stop();
             }
-            if (ownsOps) {
-                ops.close();
-            }
+            ops.close();
         }
     }
 }

@@ -12,18 +12,26 @@ import java.util.Map;
  *                          set {@code 127.0.0.1} to serve this machine only)
  * @param port              TCP port ({@code TWOFOLD_HTTP_PORT}, default {@value #DEFAULT_PORT}; 0 picks a free port)
  * @param stopTimeout       how long a stop waits for requests in flight before closing connections
- * @param modelPollInterval how often the service looks for a first model while it has none; also the
- *                          Retry-After it sends meanwhile (rounded up to whole seconds)
+ * @param modelPollInterval how often the service checks the active model in case a promotion
+ *                          notification was missed; also the Retry-After it sends while it has no
+ *                          model (rounded up to whole seconds)
+ * @param freshUsers        most users kept folded in since the model was loaded
+ *                          ({@code TWOFOLD_FRESH_USERS}, default {@value #DEFAULT_FRESH_USERS})
  */
-public record ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval) {
+public record ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval,
+        int freshUsers) {
 
     public static final String HOST_VARIABLE = "TWOFOLD_HTTP_HOST";
     public static final String PORT_VARIABLE = "TWOFOLD_HTTP_PORT";
+    public static final String FRESH_USERS_VARIABLE = "TWOFOLD_FRESH_USERS";
     public static final String DEFAULT_HOST = "0.0.0.0";
     public static final int DEFAULT_PORT = 8080;
     public static final int MAX_PORT = 65_535;
     public static final long DEFAULT_STOP_TIMEOUT_MS = 10_000;
-    public static final long DEFAULT_MODEL_POLL_MS = 5_000;
+    /** Polling is the fallback to notifications; every 2 s keeps a missed promotion within the 5 s promise. */
+    public static final long DEFAULT_MODEL_POLL_MS = 2_000;
+    public static final int DEFAULT_FRESH_USERS = 100_000;
+    public static final int MAX_FRESH_USERS = 10_000_000;
 
     public ServiceSettings {
         if (host == null || host.isBlank() || host.chars().anyMatch(Character::isWhitespace)) {
@@ -40,17 +48,33 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
         if (modelPollInterval == null || modelPollInterval.isNegative() || modelPollInterval.isZero()) {
             throw new ConfigurationException("model poll interval " + modelPollInterval + " must be positive");
         }
+        if (freshUsers < 0 || freshUsers > MAX_FRESH_USERS) {
+            throw new ConfigurationException(FRESH_USERS_VARIABLE + "=" + freshUsers + " is outside 0.."
+                    + MAX_FRESH_USERS);
+        }
     }
 
-    /** Defaults overridden by {@code TWOFOLD_HTTP_HOST} and {@code TWOFOLD_HTTP_PORT} when set and not blank. */
+    /** Settings with the default number of fresh users. */
+    public ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval) {
+        this(host, port, stopTimeout, modelPollInterval, DEFAULT_FRESH_USERS);
+    }
+
+    /**
+     * Defaults overridden by {@code TWOFOLD_HTTP_HOST}, {@code TWOFOLD_HTTP_PORT} and
+     * {@code TWOFOLD_FRESH_USERS} when set and not blank.
+     */
     public static ServiceSettings fromEnvironment(Map<String, String> env) {
         String host = env.get(HOST_VARIABLE);
         String port = env.get(PORT_VARIABLE);
+        String fresh = env.get(FRESH_USERS_VARIABLE);
         return new ServiceSettings(
                 host == null || host.isBlank() ? DEFAULT_HOST : host.trim(),
-                port == null || port.isBlank() ? DEFAULT_PORT : parsePort(port.trim()),
+                port == null || port.isBlank() ? DEFAULT_PORT : parse(PORT_VARIABLE, port.trim(), "0.." + MAX_PORT
+                        + " (0 picks a free port)"),
                 Duration.ofMillis(DEFAULT_STOP_TIMEOUT_MS),
-                Duration.ofMillis(DEFAULT_MODEL_POLL_MS));
+                Duration.ofMillis(DEFAULT_MODEL_POLL_MS),
+                fresh == null || fresh.isBlank() ? DEFAULT_FRESH_USERS : parse(FRESH_USERS_VARIABLE, fresh.trim(),
+                        "0.." + MAX_FRESH_USERS));
     }
 
     /** Whole seconds a client should wait before asking again for a model, at least 1. */
@@ -58,12 +82,11 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
         return (int) Math.max(1, (modelPollInterval.toMillis() + 999) / 1000);
     }
 
-    private static int parsePort(String value) {
+    private static int parse(String variable, String value, String range) {
         try {
             return Integer.parseInt(value);
         } catch (NumberFormatException e) {
-            throw new ConfigurationException(PORT_VARIABLE + "='" + value + "' is not a port number; use 0.." + MAX_PORT
-                    + " (0 picks a free port)");
+            throw new ConfigurationException(variable + "='" + value + "' is not a whole number; use " + range);
         }
     }
 }

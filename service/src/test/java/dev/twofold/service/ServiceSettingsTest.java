@@ -18,7 +18,20 @@ class ServiceSettingsTest {
         assertEquals("0.0.0.0", settings.host());
         assertEquals(8080, settings.port());
         assertEquals(Duration.ofMillis(ServiceSettings.DEFAULT_STOP_TIMEOUT_MS), settings.stopTimeout());
-        assertEquals(5, settings.retryAfterSeconds());
+        assertEquals(2, settings.retryAfterSeconds(), "polling every 2 s keeps a missed notification within 5 s");
+        assertEquals(ServiceSettings.DEFAULT_FRESH_USERS, settings.freshUsers());
+    }
+
+    @Test
+    void the_fresh_user_capacity_comes_from_the_environment_and_is_checked() {
+        assertEquals(0, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_FRESH_USERS", "0")).freshUsers());
+        assertEquals(5000, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_FRESH_USERS", " 5000 ")).freshUsers());
+        for (String value : new String[] {"-1", "10000001", "many"}) {
+            ConfigurationException e = assertThrows(ConfigurationException.class,
+                    () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_FRESH_USERS", value)));
+            assertTrue(e.getMessage().contains("TWOFOLD_FRESH_USERS") && e.getMessage().contains(value)
+                    && e.getMessage().contains("0..10000000"), e.getMessage());
+        }
     }
 
     @Test

@@ -13,6 +13,7 @@ public enum ProblemType {
     FORBIDDEN(403, "forbidden", "Forbidden"),
     NOT_FOUND(404, "not-found", "Not found"),
     METHOD_NOT_ALLOWED(405, "method-not-allowed", "Method not allowed"),
+    MODEL_STATE(409, "model-state", "Model state does not allow this"),
     BODY_TOO_LARGE(413, "body-too-large", "Request body too large"),
     BATCH_TOO_LARGE(413, "batch-too-large", "Batch too large"),
     UNSUPPORTED_MEDIA_TYPE(415, "unsupported-media-type", "Unsupported media type"),

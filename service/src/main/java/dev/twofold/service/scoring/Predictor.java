@@ -21,4 +21,17 @@ public final class Predictor {
         }
         return model.clampToScale(r);
     }
+
+    /**
+     * The same prediction for a resolved user: with a vector (own, folded or trust-built),
+     * μ + b + b_i + x·q_i; without, μ + b_i; clamped to the scale.
+     */
+    public static float predict(ServingModel model, UserVector user, int item) {
+        double r = (double) model.globalMean() + model.itemBias()[item];
+        if (user.hasVector()) {
+            int k = model.rank();
+            r += user.bias() + ScoreKernel.dot(user.factors(), user.offset(), model.itemFactors(), item * k, k);
+        }
+        return model.clampToScale(r);
+    }
 }

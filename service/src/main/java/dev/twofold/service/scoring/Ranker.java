@@ -5,113 +5,90 @@ import java.util.Arrays;
 import java.util.List;
 
 /**
- * Ranks the items a user has not rated.
+ * Ranks the items a user has not rated, and finds items similar to an item.
  *
- * <p>A user with learned factors ({@link Strategy#MODEL}) gets the items with the highest
- * r̂(u,i) = μ + b_u + b_i + p_u·q_i: one pass over Q scores every item into a per-thread buffer,
- * then a bounded heap keeps the best {@code count} in O(n·k + n·log count). Items are ranked by the
+ * <p>A user with a factor vector ({@link Strategy#MODEL}: their own, learned or folded in;
+ * {@link Strategy#TRUST}: built from the users they trust) gets the items with the highest
+ * r̂(u,i) = μ + b_u + b_i + x_u·q_i, scored by the {@link ScoringEngine} (every item, batched with
+ * concurrent requests) and kept by a bounded heap, O(n·k + n·log count). Items are ranked by the
  * unclamped prediction, so an item predicted above the top of the scale still ranks above one
  * predicted just at the top; the scores reported are clamped to the scale. Equal predictions rank
  * the lower serving item index first.
  *
- * <p>Anyone else ({@link Strategy#POPULAR}: unknown id, or known but without factors) gets the
- * model's popularity order, scored μ + b_i, the prediction for a user about whom nothing is known.
+ * <p>Anyone else ({@link Strategy#POPULAR}) gets the model's popularity order, scored μ + b_i, the
+ * prediction for a user about whom nothing is known.
  *
  * <p>Either way the user's rated items and the request's excluded items never appear. Excluded
- * ids the model does not know are ignored. Thread-safe; the scratch buffers are per thread and
- * grow to the largest model seen.
+ * ids the model does not know are ignored. Thread-safe.
  */
 public final class Ranker {
 
-    private static final class Scratch {
-        float[] scores = new float[0];
-        long[] skip = new long[0];
-        final TopK best = new TopK(16);
+    private final ScoringEngine engine;
 
-        void fit(int numItems) {
-            if (scores.length < numItems) {
-                scores = new float[numItems];
-            }
-            int words = (numItems + 63) >>> 6;
-            if (skip.length < words) {
-                skip = new long[words];
-            }
-        }
+    public Ranker() {
+        this(new ScoringEngine());
     }
 
-    private final ThreadLocal<Scratch> scratch = ThreadLocal.withInitial(Scratch::new);
+    public Ranker(ScoringEngine engine) {
+        this.engine = engine;
+    }
+
+    /** The engine that scores items, for the start-up log. */
+    public ScoringEngine engine() {
+        return engine;
+    }
+
+    /** {@link #recommend(ServingModel, UserVector, int, List)} for the user as the model alone knows them. */
+    public Recommendation recommend(ServingModel model, String userId, int count, List<String> exclude) {
+        return recommend(model, UserVector.fromModel(model, userId), count, exclude);
+    }
 
     /**
-     * The best {@code count} items for {@code userId} under {@code model}, fewer when fewer are
+     * The best {@code count} items for {@code user} under {@code model}, fewer when fewer are
      * left after skipping rated and excluded items.
      */
-    public Recommendation recommend(ServingModel model, String userId, int count, List<String> exclude) {
+    public Recommendation recommend(ServingModel model, UserVector user, int count, List<String> exclude) {
         if (count < 0) {
             throw new IllegalArgumentException("count " + count + " must be >= 0");
         }
-        Scratch s = scratch.get();
-        s.fit(model.numItems());
-        int user = model.userIndex(userId);
-        int[] rated = model.ratedItems();
-        int ratedFrom = model.ratedStart(user);
-        int ratedTo = model.ratedEnd(user);
-        long[] skip = s.skip;
-        for (int r = ratedFrom; r < ratedTo; r++) {
-            setBit(skip, rated[r]);
+        int[] skip = user.rated();
+        int skipFrom = user.ratedFrom();
+        int skipTo = user.ratedTo();
+        int[] excluded = indices(model, exclude);
+        if (excluded.length > 0) {
+            skip = union(skip, skipFrom, skipTo, excluded);
+            skipFrom = 0;
+            skipTo = skip.length;
         }
-        int[] excluded = new int[exclude.size()];
-        int numExcluded = 0;
-        for (String id : exclude) {
-            int item = model.itemIndex(id);
-            if (item >= 0) {
-                excluded[numExcluded++] = item;
-                setBit(skip, item);
-            }
+        if (!user.hasVector()) {
+            return rankByPopularity(model, count, skip, skipFrom, skipTo);
         }
-        try {
-            return model.hasFactors(user)
-                    ? rankByModel(model, user, count, s)
-                    : rankByPopularity(model, count, skip);
-        } finally {
-            for (int r = ratedFrom; r < ratedTo; r++) {
-                clearBit(skip, rated[r]);
-            }
-            for (int e = 0; e < numExcluded; e++) {
-                clearBit(skip, excluded[e]);
-            }
+        Ranked ranked = engine.rank(model, user.factors(), user.offset(), count, skip, skipFrom, skipTo);
+        float[] scores = ranked.scores();
+        double base = (double) model.globalMean() + user.bias();
+        for (int j = 0; j < scores.length; j++) {
+            scores[j] = model.clampToScale(base + scores[j]);
         }
+        return new Recommendation(user.strategy(), ranked.items(), scores);
     }
 
-    private static Recommendation rankByModel(ServingModel model, int user, int count, Scratch s) {
-        int k = model.rank();
-        int n = model.numItems();
-        float[] scores = s.scores;
-        long[] skip = s.skip;
-        ScoreKernel.scoreItems(model.userFactors(), user * k, k, model.itemFactors(), model.itemBias(), n, scores);
-        TopK best = s.best;
-        best.reset(Math.min(count, n));
-        for (int i = 0; i < n; i++) {
-            if ((skip[i >>> 6] & (1L << i)) == 0) {
-                best.offer(i, scores[i]);
-            }
-        }
-        int[] items = new int[best.size()];
-        float[] out = new float[items.length];
-        best.drainBestFirst(items, out);
-        double base = (double) model.globalMean() + model.userBias()[user];
-        for (int j = 0; j < items.length; j++) {
-            out[j] = model.clampToScale(base + out[j]);
-        }
-        return new Recommendation(Strategy.MODEL, items, out);
+    /**
+     * The {@code count} items most similar to serving item {@code item} by cosine of their factor
+     * vectors, best first, leaving out the item itself and the {@code exclude} ids.
+     */
+    public Ranked similar(ServingModel model, int item, int count, List<String> exclude) {
+        int[] excluded = indices(model, exclude);
+        return engine.similar(model, item, count, excluded, 0, excluded.length);
     }
 
-    private static Recommendation rankByPopularity(ServingModel model, int count, long[] skip) {
+    private static Recommendation rankByPopularity(ServingModel model, int count, int[] skip, int skipFrom,
+            int skipTo) {
         int[] order = model.popularityOrder();
         int[] picked = new int[Math.min(count, order.length)];
         int size = 0;
         for (int r = 0; r < order.length && size < picked.length; r++) {
             int i = order[r];
-            if ((skip[i >>> 6] & (1L << i)) == 0) {
+            if (skipTo == skipFrom || Arrays.binarySearch(skip, skipFrom, skipTo, i) < 0) {
                 picked[size++] = i;
             }
         }
@@ -124,11 +101,46 @@ public final class Ranker {
         return new Recommendation(Strategy.POPULAR, items, scores);
     }
 
-    private static void setBit(long[] bits, int i) {
-        bits[i >>> 6] |= 1L << i;
+    /** Serving indices of the ids the model knows, sorted, without duplicates. */
+    private static int[] indices(ServingModel model, List<String> ids) {
+        if (ids.isEmpty()) {
+            return new int[0];
+        }
+        int[] out = new int[ids.size()];
+        int n = 0;
+        for (String id : ids) {
+            int item = model.itemIndex(id);
+            if (item >= 0) {
+                out[n++] = item;
+            }
+        }
+        Arrays.sort(out, 0, n);
+        int distinct = 0;
+        for (int j = 0; j < n; j++) {
+            if (distinct == 0 || out[distinct - 1] != out[j]) {
+                out[distinct++] = out[j];
+            }
+        }
+        return Arrays.copyOf(out, distinct);
     }
 
-    private static void clearBit(long[] bits, int i) {
-        bits[i >>> 6] &= ~(1L << i);
+    /** The sorted union of {@code a[from..to)} and {@code b} (both sorted). */
+    private static int[] union(int[] a, int from, int to, int[] b) {
+        int[] out = new int[to - from + b.length];
+        int n = 0;
+        int i = from;
+        int j = 0;
+        while (i < to || j < b.length) {
+            int next;
+            if (j == b.length || (i < to && a[i] <= b[j])) {
+                next = a[i++];
+            } else {
+                next = b[j++];
+            }
+            if (n == 0 || out[n - 1] != next) {
+                out[n++] = next;
+            }
+        }
+        return Arrays.copyOf(out, n);
     }
 }

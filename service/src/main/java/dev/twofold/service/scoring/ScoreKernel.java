@@ -1,23 +1,12 @@
 package dev.twofold.service.scoring;
 
 /**
- * The arithmetic of scoring on flat row-major factor arrays. No objects, no boxing; the inner
- * products run four independent accumulators so the multiply-adds of one row overlap.
+ * One inner product on flat row-major factor arrays, for single predictions (ranking every item
+ * goes through {@link ScoringEngine}). Four independent accumulators let the multiply-adds overlap.
  */
 final class ScoreKernel {
 
     private ScoreKernel() {
-    }
-
-    /**
-     * {@code out[i] = b[i] + p·Q[i]} for every item row {@code i < n}, where {@code p} is the
-     * k-vector starting at {@code P[pOffset]} and row i of Q starts at {@code i·k}. Adding μ + b_u,
-     * a constant per user, is left to the caller. Cost: n·k multiply-adds, one pass over Q.
-     */
-    static void scoreItems(float[] P, int pOffset, int k, float[] Q, float[] b, int n, float[] out) {
-        for (int i = 0; i < n; i++) {
-            out[i] = b[i] + dot(P, pOffset, Q, i * k, k);
-        }
     }
 
     /** Σ_f x[xOffset+f]·y[yOffset+f] for f < k, summed in float in four interleaved lanes. */

@@ -4,6 +4,8 @@ package dev.twofold.service.scoring;
 public enum Strategy {
     /** Ranked by the user's own learned factors. */
     MODEL("model"),
+    /** No factors of their own, but they trust users who have: served from those users' factors. */
+    TRUST("trust"),
     /** Nothing usable is known about the user: the most popular items they have not rated. */
     POPULAR("popular");
 

@@ -40,6 +40,17 @@ final class TopK {
         return size;
     }
 
+    /**
+     * The score an offer must beat to enter: the worst kept score once full, −∞ before, +∞ for
+     * capacity 0. (An offer that only ties it enters when its item index is lower.)
+     */
+    float threshold() {
+        if (size < capacity) {
+            return Float.NEGATIVE_INFINITY;
+        }
+        return capacity == 0 ? Float.POSITIVE_INFINITY : scores[0];
+    }
+
     /** Keeps (item, score) when it is among the best {@code capacity} offered so far. */
     void offer(int item, float score) {
         if (size < capacity) {

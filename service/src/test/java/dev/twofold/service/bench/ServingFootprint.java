@@ -2,6 +2,8 @@ package dev.twofold.service.bench;
 
 import dev.twofold.db.registry.ModelFactors;
 import dev.twofold.db.snapshot.IdDirectory;
+import dev.twofold.db.snapshot.UserHistory;
+import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Ranker;
 import dev.twofold.service.testing.KitchenModel;
@@ -12,17 +14,16 @@ import java.util.List;
 import java.util.SplittableRandom;
 
 /**
- * Measures what a served model costs: retained heap against the raw factor bytes, and the time to
+ * Measures what a served model costs: retained heap against the raw factor bytes (P, Q and, with
+ * the shared coupling, Z), then what a full set of fresh (folded-in) users adds, and the time to
  * rank one user's items. A plain main, not a test:
  *
  * <pre>
- * mvn -B -q -pl service -am test-compile
- * java -Xmx6g -cp "service/target/test-classes:service/target/classes:$(cat cp.txt)" \
- *     dev.twofold.service.bench.ServingFootprint [users items rank ratingsPerUser]
+ * JAVA_OPTS="--add-modules jdk.incubator.vector -Xmx6g" deploy/bench service \
+ *     dev.twofold.service.bench.ServingFootprint [users items rank ratingsPerUser shared|none freshUsers]
  * </pre>
- * (cp.txt from {@code mvn -q -pl service dependency:build-classpath -Dmdep.outputFile=cp.txt}).
- * Defaults: 1,000,000 users, 100,000 items, rank 64, 20 ratings per user; then ranking latency
- * on 20,000 items at rank 64.
+ * Defaults: 1,000,000 users, 100,000 items, rank 64, 20 ratings per user, no Z, 100,000 fresh
+ * users (the default {@code TWOFOLD_FRESH_USERS}); then ranking latency on 20,000 items at rank 64.
  */
 public final class ServingFootprint {
 
@@ -39,21 +40,48 @@ public final class ServingFootprint {
         int items = args.length > 1 ? Integer.parseInt(args[1]) : 100_000;
         int k = args.length > 2 ? Integer.parseInt(args[2]) : 64;
         int perUser = args.length > 3 ? Integer.parseInt(args[3]) : 20;
+        boolean shared = args.length > 4 && args[4].equals("shared");
+        int freshUsers = args.length > 5 ? Integer.parseInt(args[5]) : 100_000;
 
         long before = usedHeap();
-        ServingModel model = build(users, items, k, perUser, SEED);
+        ServingModel model = build(users, items, k, perUser, SEED, shared);
         long retained = usedHeap() - before;
-        long raw = 4L * ((long) users * k + (long) items * k + users + items);
+        long raw = 4L * ((long) users * k * (shared ? 2 : 1) + (long) items * k + users + items);
         long target = raw * 3 / 2 + 200 * MIB;
-        System.out.printf("footprint: %,d users x %,d items, rank %d, %,d ratings%n", users, items, k,
-                (long) users * perUser);
+        System.out.printf("footprint: %,d users x %,d items, rank %d, %,d ratings, %s%n", users, items, k,
+                (long) users * perUser, shared ? "shared coupling (Z kept)" : "no Z");
         System.out.printf("  raw factor bytes %,d MiB; retained heap %,d MiB (%.2fx raw); target 1.5x raw + 200 MiB"
                 + " = %,d MiB -> %s%n", raw / MIB, retained / MIB, (double) retained / raw, target / MIB,
                 retained <= target ? "within" : "OVER");
         System.out.println("  " + model);
+
+        LiveModels live = new LiveModels(freshUsers);
+        live.install(model);
+        SplittableRandom picks = new SplittableRandom(SEED);
+        List<UserHistory> batch = new java.util.ArrayList<>();
+        for (int u = 0; u < freshUsers; u++) {
+            int[] rated = new int[perUser];
+            float[] ratings = new float[perUser];
+            for (int r = 0; r < perUser; r++) {
+                rated[r] = picks.nextInt(items);
+                ratings[r] = 1 + picks.nextInt(5);
+            }
+            Arrays.sort(rated);
+            batch.add(new UserHistory("cook-" + u, u, rated, ratings, new int[0], new float[0]));
+            if (batch.size() == 1000) {
+                live.foldIn(batch);
+                batch.clear();
+            }
+        }
+        live.foldIn(batch);
+        long withFresh = usedHeap() - before;
+        System.out.printf("  with %,d fresh users of %d ratings each: retained heap %,d MiB (%,d bytes per fresh user)"
+                + " -> %s%n", live.current().fresh().size(), perUser, withFresh / MIB,
+                freshUsers == 0 ? 0 : (withFresh - retained) / freshUsers, withFresh <= target ? "within" : "OVER");
+        live = null;
         model = null;
 
-        ServingModel small = build(20_000, 20_000, 64, perUser, SEED + 1);
+        ServingModel small = build(20_000, 20_000, 64, perUser, SEED + 1, false);
         Ranker ranker = new Ranker();
         SplittableRandom random = new SplittableRandom(SEED);
         for (int r = 0; r < WARMUP_REQUESTS; r++) {
@@ -71,7 +99,7 @@ public final class ServingFootprint {
                 nanos[MEASURED_REQUESTS / 2] / 1000, nanos[MEASURED_REQUESTS * 99 / 100] / 1000);
     }
 
-    private static ServingModel build(int users, int items, int k, int perUser, long seed) {
+    private static ServingModel build(int users, int items, int k, int perUser, long seed, boolean shared) {
         SplittableRandom random = new SplittableRandom(seed);
         float[] P = new float[users * k];
         float[] Q = new float[items * k];
@@ -105,7 +133,14 @@ public final class ServingFootprint {
         knownUsers.set(0, users);
         BitSet knownItems = new BitSet(items);
         knownItems.set(0, items);
-        ModelFactors factors = new ModelFactors(k, P, bU, knownUsers, Q, bI, popularity, knownItems, null);
+        float[] Z = null;
+        if (shared) {
+            Z = new float[users * k];
+            for (int j = 0; j < Z.length; j++) {
+                Z[j] = (float) (random.nextDouble() - 0.5) * 0.1f;
+            }
+        }
+        ModelFactors factors = new ModelFactors(k, P, bU, knownUsers, Q, bI, popularity, knownItems, Z);
         return ServingModel.assemble(KitchenModel.header(1, k, users, items, 3.5f, 1f, 5f), factors,
                 new IdDirectory(userIds, itemIds), ratingUser, ratingItem);
     }

@@ -7,47 +7,75 @@ import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import com.fasterxml.jackson.databind.node.ObjectNode;
+import com.fasterxml.jackson.dataformat.yaml.YAMLFactory;
+import com.networknt.schema.JsonMetaSchema;
+import com.networknt.schema.JsonSchema;
+import com.networknt.schema.JsonSchemaFactory;
+import com.networknt.schema.NonValidationKeyword;
+import com.networknt.schema.SpecVersion;
+import com.networknt.schema.ValidationMessage;
+import dev.twofold.db.connect.Database;
+import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
 import dev.twofold.service.testing.ApiClient;
-import dev.twofold.service.testing.KitchenModel;
+import dev.twofold.service.testing.KitchenDatabase;
 import io.swagger.v3.oas.models.OpenAPI;
 import io.swagger.v3.oas.models.Operation;
 import io.swagger.v3.oas.models.PathItem;
 import io.swagger.v3.oas.models.media.MediaType;
 import io.swagger.v3.oas.models.media.Schema;
-import io.swagger.v3.oas.models.responses.ApiResponse;
 import io.swagger.v3.parser.OpenAPIV3Parser;
 import io.swagger.v3.parser.core.models.ParseOptions;
 import io.swagger.v3.parser.core.models.SwaggerParseResult;
 import java.io.IOException;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
+import java.util.TreeSet;
+import java.util.regex.Pattern;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
 
-/** Keeps openapi.yaml true: it parses cleanly, and every operation it lists behaves as listed on the running app. */
+/**
+ * Keeps openapi.yaml true against the running app (with a database, so every route works): the
+ * routes the app has are exactly the operations the file lists; every answer, good or bad, has a
+ * listed status and content type, and its JSON body validates against the schema the file gives
+ * for it (JSON Schema 2020-12, the dialect of OpenAPI 3.1, checked by an independent validator).
+ */
 class OpenApiContractTest {
 
     /** Surefire runs in the module directory; the contract lives at the repository root. */
     private static final Path CONTRACT = Path.of("..", "openapi.yaml");
     private static final Set<String> METHODS = Set.of("GET", "POST", "PUT", "PATCH", "DELETE");
+    private static final Pattern PARAMETER = Pattern.compile("\\{[^}]+}");
 
+    @TempDir
+    static Path dir;
+    private static Database db;
     private static Service service;
     private static ApiClient api;
     private static OpenAPI contract;
+    private static JsonNode document;
+    private static long model;
 
     @BeforeAll
-    static void start() {
-        service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(5), Duration.ofSeconds(1)));
-        service.install(KitchenModel.build());
+    static void start() throws IOException {
+        db = TestDatabases.fresh();
+        KitchenDatabase.importRatings(db, dir);
+        model = KitchenDatabase.publishModel(db);
+        service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(5), Duration.ofHours(1)),
+                AccessPolicy.OPEN, db);
         api = new ApiClient(service.start());
         ParseOptions options = new ParseOptions();
         options.setResolve(true);
@@ -56,11 +84,13 @@ class OpenApiContractTest {
         assertTrue(parsed.getMessages() == null || parsed.getMessages().isEmpty(), "parser: " + parsed.getMessages());
         contract = parsed.getOpenAPI();
         assertNotNull(contract);
+        document = new ObjectMapper(new YAMLFactory()).readTree(CONTRACT.toFile());
     }
 
     @AfterAll
     static void stop() {
         service.close();
+        db.close();
     }
 
     @Test
@@ -68,7 +98,7 @@ class OpenApiContractTest {
         HttpResponse<String> served = api.get("/openapi.yaml");
         assertEquals(200, served.statusCode());
         assertEquals("application/yaml", served.headers().firstValue("Content-Type").orElse("").split(";")[0]);
-        assertArrayEquals(Files.readAllBytes(CONTRACT), served.body().getBytes(java.nio.charset.StandardCharsets.UTF_8));
+        assertArrayEquals(Files.readAllBytes(CONTRACT), served.body().getBytes(StandardCharsets.UTF_8));
     }
 
     @Test
@@ -77,23 +107,58 @@ class OpenApiContractTest {
     }
 
     @Test
-    void every_listed_operation_answers_with_a_listed_status_and_the_required_fields() {
+    void the_app_has_exactly_the_routes_the_contract_lists() {
+        Set<String> routes = new TreeSet<>();
+        for (String route : service.routes()) {
+            String method = route.substring(0, route.indexOf(' '));
+            if (METHODS.contains(method)) {
+                routes.add(method + " " + PARAMETER.matcher(route.substring(route.indexOf(' ') + 1)).replaceAll("{}"));
+            }
+        }
+        Set<String> listed = new TreeSet<>();
+        for (Map.Entry<String, PathItem> path : contract.getPaths().entrySet()) {
+            for (PathItem.HttpMethod method : path.getValue().readOperationsMap().keySet()) {
+                listed.add(method.name() + " " + PARAMETER.matcher(path.getKey()).replaceAll("{}"));
+            }
+        }
+        assertEquals(listed, routes, "routes of the app (right) against operations of openapi.yaml (left)");
+    }
+
+    @Test
+    void every_listed_operation_answers_as_listed_with_its_example_body() {
         assertFalse(contract.getPaths().isEmpty());
         for (Map.Entry<String, PathItem> path : contract.getPaths().entrySet()) {
             for (Map.Entry<PathItem.HttpMethod, Operation> op : path.getValue().readOperationsMap().entrySet()) {
-                String where = op.getKey() + " " + path.getKey();
-                HttpResponse<String> response = call(op.getKey().name(), concrete(path.getKey()), op.getValue());
-                ApiResponse declared = op.getValue().getResponses().get(Integer.toString(response.statusCode()));
-                assertNotNull(declared, where + " answered " + response.statusCode() + ", not listed: "
-                        + response.body());
-                String contentType = response.headers().firstValue("Content-Type").orElse("").split(";")[0].trim();
-                MediaType media = declared.getContent() == null ? null : declared.getContent().get(contentType);
-                assertNotNull(media, where + " answered " + contentType + ", not listed");
-                if (contentType.endsWith("json")) {
-                    assertRequiredFields(where, media.getSchema(), ApiClient.json(response));
-                }
+                String method = op.getKey().name();
+                HttpResponse<String> response = call(method, concrete(path.getKey()), example(op.getValue()));
+                assertAnswersAsListed(method, path.getKey(), response);
             }
         }
+    }
+
+    @Test
+    void refusals_and_other_answers_are_listed_and_valid_too() {
+        String stranger = "/v1/users/somebody-new/recommendations";
+        assertAnswersAsListed("GET", "/v1/users/{user}/recommendations", api.get(stranger));
+        assertAnswersAsListed("GET", "/v1/users/{user}/recommendations", api.get("/v1/users/ana/recommendations?count=0"));
+        assertAnswersAsListed("GET", "/v1/users/{user}/recommendations",
+                api.get("/v1/users/ana/recommendations?exclude=soup,cake&count=1000"));
+        assertAnswersAsListed("GET", "/v1/items/{item}/similar", api.get("/v1/items/no-such-recipe/similar"));
+        assertAnswersAsListed("GET", "/v1/items/{item}/similar", api.get("/v1/items/soup/similar?count=1001"));
+        assertAnswersAsListed("POST", "/v1/predictions", api.postJson("/v1/predictions", "{\"pairs\": 3}"));
+        assertAnswersAsListed("POST", "/v1/predictions", api.postJson("/v1/predictions",
+                "{\"pairs\": [{\"user\": \"ana\", \"item\": \"jam\"}, {\"user\": \"zoe\", \"item\": \"soup\"}]}"));
+        assertAnswersAsListed("POST", "/v1/ratings", api.postJson("/v1/ratings",
+                "[{\"user\": \"ana\", \"item\": \"soup\", \"rating\": 9}, {\"user\": \"ana\"}]"));
+        assertAnswersAsListed("POST", "/v1/ratings", api.postJson("/v1/ratings", "[{\"user\": "));
+        assertAnswersAsListed("POST", "/v1/ratings", api.post("/v1/ratings", "text/plain",
+                HttpRequest.BodyPublishers.ofString("ana,soup,4")));
+        assertAnswersAsListed("POST", "/v1/trust", api.postJson("/v1/trust", "[{\"truster\": \"ana\", \"trustee\":"
+                + " \"ana\"}]"));
+        assertAnswersAsListed("GET", "/v1/models/{id}", api.get("/v1/models/424242"));
+        assertAnswersAsListed("GET", "/v1/models/{id}", api.get("/v1/models/x"));
+        assertAnswersAsListed("POST", "/v1/models/{id}/promote", api.send("POST", "/v1/models/424242/promote"));
+        assertAnswersAsListed("POST", "/v1/models/rollback", api.send("POST", "/v1/models/rollback"));
     }
 
     @Test
@@ -120,45 +185,63 @@ class OpenApiContractTest {
         }
     }
 
-    private static HttpResponse<String> call(String method, String path, Operation op) {
+    /** The status is listed for the operation, so is the content type, and a JSON body validates against its schema. */
+    private static void assertAnswersAsListed(String method, String template, HttpResponse<String> response) {
+        String where = method + " " + template + " -> " + response.statusCode();
+        String pointer = "/paths/" + escape(template) + "/" + method.toLowerCase() + "/responses/"
+                + response.statusCode();
+        JsonNode declared = document.at(pointer);
+        assertFalse(declared.isMissingNode(), where + " is not a listed answer: " + response.body());
+        if (declared.has("$ref")) {
+            pointer = declared.get("$ref").asText().substring(1);
+            declared = document.at(pointer);
+        }
+        String contentType = response.headers().firstValue("Content-Type").orElse("").split(";")[0].trim();
+        assertTrue(declared.path("content").has(contentType), where + " answered " + contentType + ", not listed");
+        if (contentType.endsWith("json")) {
+            String schemaPointer = pointer + "/content/" + escape(contentType) + "/schema";
+            Set<ValidationMessage> problems = schemaAt(schemaPointer).validate(ApiClient.json(response));
+            assertTrue(problems.isEmpty(), where + " does not match its schema: " + problems + " in " + response.body());
+        }
+    }
+
+    /** The schema at a JSON Pointer of the document, with its references resolved inside the document. */
+    private static JsonSchema schemaAt(String pointer) {
+        ObjectNode root = document.deepCopy();
+        root.put("$ref", "#" + pointer);
+        JsonMetaSchema dialect = JsonMetaSchema.builder(JsonMetaSchema.getV202012())
+                .keywords(List.of(new NonValidationKeyword("openapi"), new NonValidationKeyword("info"),
+                        new NonValidationKeyword("servers"), new NonValidationKeyword("tags"),
+                        new NonValidationKeyword("paths"), new NonValidationKeyword("components")))
+                .build();
+        return JsonSchemaFactory.getInstance(SpecVersion.VersionFlag.V202012, b -> b.metaSchema(dialect))
+                .getSchema(root);
+    }
+
+    /** RFC 6901: ~ as ~0, / as ~1. */
+    private static String escape(String segment) {
+        return segment.replace("~", "~0").replace("/", "~1");
+    }
+
+    private static String example(Operation op) {
         if (op.getRequestBody() == null) {
-            return api.send(method, path);
+            return null;
         }
         MediaType json = op.getRequestBody().getContent().get("application/json");
-        assertNotNull(json.getExample(), method + " " + path + " needs a request example to be checked");
-        String body = json.getExample() instanceof String s ? s : io.swagger.v3.core.util.Json.pretty(json.getExample());
+        assertNotNull(json.getExample(), "the request body needs an example to be checked");
+        return json.getExample() instanceof String s ? s : io.swagger.v3.core.util.Json.pretty(json.getExample());
+    }
+
+    private static HttpResponse<String> call(String method, String path, String body) {
+        if (body == null) {
+            return api.send(method, path);
+        }
         return api.send(HttpRequest.newBuilder(api.uri(path)).header("Content-Type", "application/json")
                 .method(method, HttpRequest.BodyPublishers.ofString(body)));
     }
 
     private static String concrete(String template) {
-        return template.replace("{user}", "cy").replace("{name}", "dashboard.css");
-    }
-
-    @SuppressWarnings("rawtypes")
-    private static void assertRequiredFields(String where, Schema schema, JsonNode value) {
-        if (schema == null) {
-            return;
-        }
-        List<?> required = schema.getRequired();
-        if (required != null) {
-            for (Object field : required) {
-                assertTrue(value.has(field.toString()), where + ": '" + field + "' missing in " + value);
-            }
-        }
-        if (schema.getProperties() != null && value.isObject()) {
-            for (Object entry : schema.getProperties().entrySet()) {
-                Map.Entry e = (Map.Entry) entry;
-                JsonNode child = value.get(e.getKey().toString());
-                if (child != null && !child.isNull()) {
-                    assertRequiredFields(where + "." + e.getKey(), (Schema) e.getValue(), child);
-                }
-            }
-        }
-        if (schema.getItems() != null && value.isArray()) {
-            for (JsonNode element : value) {
-                assertRequiredFields(where + "[]", schema.getItems(), element);
-            }
-        }
+        return template.replace("{user}", "cy").replace("{item}", "soup").replace("{id}", Long.toString(model))
+                .replace("{name}", "dashboard.css");
     }
 }

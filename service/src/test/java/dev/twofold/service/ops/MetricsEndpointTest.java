@@ -119,6 +119,12 @@ class MetricsEndpointTest {
     }
 
     @Test
+    void users_folded_in_after_a_write_are_counted() {
+        assertTrue(sent.foldedUsers() > 0, "the write folded nobody in");
+        assertEquals(sent.foldedUsers(), metrics.value("twofold_fold_ins_total"));
+    }
+
+    @Test
     void the_live_model_gauges_carry_its_id_age_and_the_figures_the_trainer_stored() throws Exception {
         ModelHeader live = new ModelRegistry(community.database).find(community.liveModel).orElseThrow();
         JsonNode stored = JSON.readTree(live.metricsJson());

@@ -16,7 +16,6 @@ import dev.twofold.service.testing.ApiClient;
 import dev.twofold.service.testing.KitchenModel;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
-import java.time.Clock;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
@@ -33,7 +32,6 @@ class RequestLogTest {
 
     private static final String SECRET = "tfk_live_4c1d8e0b9f2a7c3d5e6f708192a3b4c5";
 
-    private Observability ops;
     private Service service;
     private ApiClient api;
     private ListAppender<ILoggingEvent> lines;
@@ -48,9 +46,8 @@ class RequestLogTest {
         lines = new ListAppender<>();
         lines.start();
         requestLogger.addAppender(lines);
-        ops = new Observability(OpsSettings.defaults(), null, Clock.systemUTC());
         service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10), Duration.ofSeconds(1)),
-                AccessPolicy.OPEN, ops);
+                AccessPolicy.OPEN, null, OpsSettings.defaults());
         api = new ApiClient(service.start());
         service.install(KitchenModel.build());
     }
@@ -58,7 +55,6 @@ class RequestLogTest {
     @AfterEach
     void stop() {
         service.close();
-        ops.close();
         requestLogger.detachAppender(lines);
         requestLogger.setLevel(levelBefore);
     }

@@ -11,7 +11,6 @@ import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
 import dev.twofold.service.http.AccessPolicy;
-import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.testing.ApiClient;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.planted.DemoDataCommand;
@@ -24,8 +23,8 @@ import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.io.UncheckedIOException;
 import java.nio.file.Files;
+import java.net.http.HttpResponse;
 import java.nio.file.Path;
-import java.time.Clock;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -36,11 +35,12 @@ import picocli.CommandLine;
 /**
  * A served cooking community with a real retrain history, for the operator-view tests: generated
  * ratings and follows imported into a fresh PostgreSQL, then four retrains with the real train
- * job, the service following the live model:
+ * job, the service following the live model as a running service does (it loads the active model
+ * at start and switches when a promotion is announced):
  * <ol>
  *   <li>a first model, promoted and loaded;</li>
  *   <li>a worse one (rank 1, heavy regularisation), rejected by the quality gate;</li>
- *   <li>a better-trained one, promoted and swapped in;</li>
+ *   <li>a better-trained one, promoted and swapped in by the service itself;</li>
  *   <li>a retrain whose fit breaks, recorded as failed.</li>
  * </ol>
  */
@@ -58,7 +58,6 @@ final class TrainedCommunity implements AutoCloseable {
     static final Duration WAIT = Duration.ofSeconds(30);
 
     final Database database;
-    final Observability ops;
     final Service service;
     final ApiClient api;
     final long firstModel;
@@ -66,11 +65,11 @@ final class TrainedCommunity implements AutoCloseable {
     final long liveModel;
     final long failedModel;
     final List<String> cooks;
+    final List<String> recipes;
 
-    private TrainedCommunity(Database database, Observability ops, Service service, ApiClient api, long[] models,
-            List<String> cooks) {
+    private TrainedCommunity(Database database, Service service, ApiClient api, long[] models, List<String> cooks,
+            List<String> recipes) {
         this.database = database;
-        this.ops = ops;
         this.service = service;
         this.api = api;
         this.firstModel = models[0];
@@ -78,6 +77,7 @@ final class TrainedCommunity implements AutoCloseable {
         this.liveModel = models[2];
         this.failedModel = models[3];
         this.cooks = cooks;
+        this.recipes = recipes;
     }
 
     static TrainedCommunity start(Path dir, OpsSettings settings) {
@@ -86,22 +86,20 @@ final class TrainedCommunity implements AutoCloseable {
         assertEquals(0, demo.execute("--out", dir.toString(), "--users", Integer.toString(COOKS), "--items",
                 Integer.toString(RECIPES), "--seed", Long.toString(SEED)));
         Database database = TestDatabases.fresh();
-        Observability ops = null;
         Service service = null;
         try {
             new Importer(database, RatingScale.DEFAULT).importFiles(dir.resolve("ratings.csv"), dir.resolve("trust.csv"));
-            ModelLoader loader = new ModelLoader(database);
             long[] models = new long[4];
 
             TrainReport first = new TrainJob(database, FIRST).run();
             assertEquals(Decision.PROMOTED, first.decision(), first.summary());
             models[0] = first.modelId();
 
-            ops = new Observability(settings, database, Clock.systemUTC());
+            // the service loads the active model as it starts and follows promotions from then on
             service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10), Duration.ofSeconds(1)),
-                    AccessPolicy.OPEN, ops);
+                    AccessPolicy.OPEN, database, settings);
             ApiClient api = new ApiClient(service.start());
-            service.install(loader.loadActive().orElseThrow());
+            awaitServing(service, models[0]);
 
             TrainReport worse = new TrainJob(database, WORSE).run();
             assertEquals(Decision.REJECTED, worse.decision(), worse.summary());
@@ -110,7 +108,7 @@ final class TrainedCommunity implements AutoCloseable {
             TrainReport better = new TrainJob(database, BETTER).run();
             assertEquals(Decision.PROMOTED, better.decision(), better.summary());
             models[2] = better.modelId();
-            service.install(loader.loadActive().orElseThrow());
+            awaitServing(service, models[2]);
 
             try {
                 new TrainJob(database, FIRST, (data, fit, listener) -> {
@@ -123,22 +121,38 @@ final class TrainedCommunity implements AutoCloseable {
             ModelHeader broken = new ModelRegistry(database).list().get(0);
             assertEquals(ModelRegistry.FAILED, broken.status(), "the broken retrain left no failed version");
             models[3] = broken.id();
-            return new TrainedCommunity(database, ops, service, api, models, cooksOf(dir.resolve("ratings.csv")));
+            return new TrainedCommunity(database, service, api, models, column(dir.resolve("ratings.csv"), 0),
+                    column(dir.resolve("ratings.csv"), 1));
         } catch (RuntimeException | AssertionError e) {
             if (service != null) {
                 service.close();
-            }
-            if (ops != null) {
-                ops.close();
             }
             database.close();
             throw e;
         }
     }
 
+    /** Waits until the service answers from {@code model} (it follows promotions by notification and polling). */
+    private static void awaitServing(Service service, long model) {
+        long deadline = System.nanoTime() + WAIT.toNanos();
+        while (service.model().map(m -> m.id() != model).orElse(true)) {
+            if (System.nanoTime() > deadline) {
+                throw new AssertionError("the service did not switch to model " + model + " within " + WAIT
+                        + "; it serves " + service.model().map(m -> Long.toString(m.id())).orElse("nothing"));
+            }
+            try {
+                Thread.sleep(20);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+                throw new AssertionError(e);
+            }
+        }
+    }
+
     /**
      * Real API traffic: recommendations for known cooks (strategy model) and unknown ones
-     * (popular), predictions, two invalid requests (400) and an unknown path (404).
+     * (popular), predictions, two invalid requests (400), an unknown path (404) and a rating
+     * written (202, folded in).
      */
     Traffic sendTraffic(int knownCooks) {
         int model = 0;
@@ -156,23 +170,29 @@ final class TrainedCommunity implements AutoCloseable {
         assertEquals(400, api.get("/v1/users/" + cooks.get(0) + "/recommendations?count=0").statusCode());
         assertEquals(400, api.get("/v1/users/" + cooks.get(0) + "/recommendations?count=lots").statusCode());
         assertEquals(404, api.get("/v1/no/such/route/" + cooks.get(1)).statusCode());
-        return new Traffic(model, popular, 1, 2, 1);
+        HttpResponse<String> wrote = api.postJson("/v1/ratings", "[{\"user\": \"" + cooks.get(2) + "\", \"item\": \""
+                + recipes.get(recipes.size() - 1) + "\", \"rating\": 4}]");
+        assertEquals(202, wrote.statusCode(), wrote.body());
+        int folded = ApiClient.json(wrote).path("foldedUsers").asInt();
+        return new Traffic(model, popular, 1, 2, 1, folded);
     }
 
-    /** What {@link #sendTraffic} sent. */
+    /** What {@link #sendTraffic} sent, and how many users the service folded in after the write. */
     record Traffic(int modelRecommendations, int popularRecommendations, int predictions, int badRequests,
-            int notFound) {
+            int notFound, int foldedUsers) {
 
         int recommendationRequests() {
             return modelRecommendations + popularRecommendations + badRequests;
         }
     }
 
-    private static List<String> cooksOf(Path ratings) {
+    /** The ids in one column of the ratings file, in order of first appearance. */
+    private static List<String> column(Path ratings, int index) {
         try {
+            List<String> lines = Files.readAllLines(ratings);
             Set<String> out = new LinkedHashSet<>();
-            for (String line : Files.readAllLines(ratings).subList(1, Files.readAllLines(ratings).size())) {
-                out.add(line.substring(0, line.indexOf(',')));
+            for (String line : lines.subList(1, lines.size())) {
+                out.add(line.split(",")[index]);
             }
             return new ArrayList<>(out);
         } catch (IOException e) {
@@ -185,11 +205,7 @@ final class TrainedCommunity implements AutoCloseable {
         try {
             service.close();
         } finally {
-            try {
-                ops.close();
-            } finally {
-                database.close();
-            }
+            database.close();
         }
     }
 }

@@ -62,8 +62,13 @@ public final class KitchenModel {
     }
 
     public static ServingModel build() {
-        return ServingModel.assemble(header(), factors(), new IdDirectory(USER_IDS.clone(), ITEM_IDS.clone()),
-                RATING_USER.clone(), RATING_ITEM.clone());
+        return build(MODEL_ID);
+    }
+
+    /** The same model under another version id. */
+    public static ServingModel build(long id) {
+        return ServingModel.assemble(header(id, K, TRAINED_USERS, TRAINED_ITEMS, MU, SCALE_MIN, SCALE_MAX), factors(),
+                new IdDirectory(USER_IDS.clone(), ITEM_IDS.clone()), RATING_USER.clone(), RATING_ITEM.clone());
     }
 
     public static ModelHeader header() {
@@ -71,9 +76,24 @@ public final class KitchenModel {
     }
 
     public static ModelHeader header(long id, int rank, int users, int items, float mu, float min, float max) {
-        Instant at = Instant.parse("2026-01-01T00:00:00Z");
-        return new ModelHeader(id, "active", rank, "shared", 0.05f, 1f, 1f, min, max, mu, users, items, at, at,
-                "{}", "{}", "{}", null);
+        return header(id, rank, users, items, mu, min, max, Instant.parse("2026-01-01T00:00:00Z"));
+    }
+
+    public static ModelHeader header(long id, int rank, int users, int items, float mu, float min, float max,
+            Instant createdAt) {
+        return new ModelHeader(id, "active", rank, "shared", 0.05f, 1f, 1f, min, max, mu, users, items, createdAt,
+                createdAt, "{}", "{}", "{}", null);
+    }
+
+    /** The model under another id and creation time, its item factors multiplied by {@code qScale}. */
+    public static ServingModel build(long id, Instant createdAt, float qScale) {
+        ModelFactors f = factors();
+        float[] q = f.itemFactors();
+        for (int j = 0; j < q.length; j++) {
+            q[j] *= qScale;
+        }
+        return ServingModel.assemble(header(id, K, TRAINED_USERS, TRAINED_ITEMS, MU, SCALE_MIN, SCALE_MAX, createdAt), f,
+                new IdDirectory(USER_IDS.clone(), ITEM_IDS.clone()), RATING_USER.clone(), RATING_ITEM.clone());
     }
 
     public static ModelFactors factors() {

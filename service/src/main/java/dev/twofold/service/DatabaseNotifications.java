@@ -1,0 +1,142 @@
+package dev.twofold.service;
+
+import dev.twofold.db.connect.Database;
+import dev.twofold.db.ingest.RatingWriter;
+import dev.twofold.db.registry.ModelRegistry;
+import dev.twofold.service.fresh.Intake;
+import java.sql.Connection;
+import java.sql.SQLException;
+import java.sql.Statement;
+import java.time.Duration;
+import java.util.Objects;
+import java.util.function.Consumer;
+import org.postgresql.PGConnection;
+import org.postgresql.PGNotification;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
+
+/**
+ * Hears what other processes announce as it commits: holds one connection of the pool in
+ * {@code LISTEN} on {@value ModelRegistry#NOTIFY_CHANNEL} (the registry sends the new model id on
+ * every promotion and rollback), on {@value RatingWriter#ERASURE_CHANNEL} (a user was erased;
+ * the payload is their id) and on {@value Intake#WRITES_CHANNEL} (users wrote through some
+ * service). Promotions call {@code onPromotion} once per batch of notifications, and once after
+ * every (re)connect, since a promotion may have happened while it was not listening; erasures
+ * call {@code onErasure} with the id; writes call {@code onWrite} with the payload.
+ *
+ * <p>If the connection breaks it reconnects every {@code retry}; the watcher's polling covers the
+ * gap. Before the connection goes back to the pool it stops listening ({@code UNLISTEN *}), so no
+ * other user of the pool collects notifications.
+ */
+final class DatabaseNotifications implements AutoCloseable {
+
+    private static final Logger LOG = LoggerFactory.getLogger(DatabaseNotifications.class);
+    /** Longest a wait for notifications blocks, which bounds how long close() waits. */
+    static final int WAIT_MS = 500;
+
+    private final Database database;
+    private final Runnable onPromotion;
+    private final Consumer<String> onErasure;
+    private final Consumer<String> onWrite;
+    private final Duration retry;
+    private final Thread thread;
+    private volatile boolean closed;
+    private String lastProblem;
+
+    DatabaseNotifications(Database database, Runnable onPromotion, Consumer<String> onErasure,
+            Consumer<String> onWrite, Duration retry) {
+        this.database = database;
+        this.onPromotion = onPromotion;
+        this.onErasure = onErasure;
+        this.onWrite = onWrite;
+        this.retry = retry;
+        this.thread = new Thread(this::run, "twofold-notifications");
+        this.thread.setDaemon(true);
+    }
+
+    void start() {
+        thread.start();
+    }
+
+    private void run() {
+        while (!closed) {
+            try (Connection c = database.dataSource().getConnection()) {
+                try {
+                    listen(c);
+                } finally {
+                    if (!c.isClosed()) {
+                        try (Statement s = c.createStatement()) {
+                            s.execute("UNLISTEN *");
+                        }
+                    }
+                }
+            } catch (SQLException | RuntimeException e) {
+                if (closed) {
+                    return;
+                }
+                String problem = "not listening for promotions, erasures and writes (" + e.getMessage() + "); retrying every "
+                        + retry.toMillis() + " ms, polling meanwhile";
+                if (!Objects.equals(problem, lastProblem)) {
+                    LOG.warn(problem);
+                    lastProblem = problem;
+                }
+                pause();
+            }
+        }
+    }
+
+    private void listen(Connection c) throws SQLException {
+        c.setAutoCommit(true);
+        try (Statement s = c.createStatement()) {
+            s.execute("LISTEN " + ModelRegistry.NOTIFY_CHANNEL);
+            s.execute("LISTEN " + RatingWriter.ERASURE_CHANNEL);
+            s.execute("LISTEN " + Intake.WRITES_CHANNEL);
+        }
+        if (lastProblem != null) {
+            LOG.info("listening for promotions, erasures and writes again");
+            lastProblem = null;
+        }
+        PGConnection pg = c.unwrap(PGConnection.class);
+        onPromotion.run();
+        while (!closed) {
+            PGNotification[] notes = pg.getNotifications(WAIT_MS);
+            if (notes == null) {
+                continue;
+            }
+            boolean promoted = false;
+            for (PGNotification note : notes) {
+                if (RatingWriter.ERASURE_CHANNEL.equals(note.getName())) {
+                    onErasure.accept(note.getParameter());
+                } else if (Intake.WRITES_CHANNEL.equals(note.getName())) {
+                    onWrite.accept(note.getParameter());
+                } else {
+                    promoted = true;
+                }
+            }
+            if (promoted) {
+                onPromotion.run();
+            }
+        }
+    }
+
+    private void pause() {
+        try {
+            Thread.sleep(retry.toMillis());
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            closed = true;
+        }
+    }
+
+    /** Stops listening and returns the connection; waits at most a little over {@value #WAIT_MS} ms. Safe twice. */
+    @Override
+    public void close() {
+        closed = true;
+        thread.interrupt();
+        try {
+            thread.join(WAIT_MS * 4L);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+}

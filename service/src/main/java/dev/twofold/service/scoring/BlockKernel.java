@@ -1,0 +1,30 @@
+package dev.twofold.service.scoring;
+
+/**
+ * Inner products of a few query vectors with a run of item panels ({@link
+ * dev.twofold.service.model.ItemPanels}): the one hot loop of ranking. For users {@code u < users}
+ * and items j of panels {@code fromPanel ≤ p < toPanel}:
+ *
+ * <pre>
+ *   out[u·S + (p − fromPanel)·W + j] = Σ_f x[u·k + f] · panels[p·k·W + f·W + j]      (S = (toPanel − fromPanel)·W)
+ * </pre>
+ *
+ * Cost: users·(toPanel − fromPanel)·W·k multiply-adds, reading the panels once for every group of
+ * users an implementation scores together. Implementations are stateless and thread-safe.
+ */
+interface BlockKernel {
+
+    void dot(float[] panels, int k, int fromPanel, int toPanel, float[] x, int users, float[] out);
+
+    /**
+     * The items whose score beats a threshold: every i in {@code [first, last)} with
+     * {@code s_i > threshold}, where s_i = {@code out[offset + i] + perItem[i]}, or
+     * {@code out[offset + i] · perItem[i]} when {@code multiply}, written to {@code candidates} in
+     * increasing order; returns how many. {@code first} is a multiple of the panel width.
+     */
+    int above(float[] out, int offset, float[] perItem, boolean multiply, int first, int last, float threshold,
+            int[] candidates);
+
+    /** What the kernel runs on, for the start-up log and the benchmark. */
+    String description();
+}

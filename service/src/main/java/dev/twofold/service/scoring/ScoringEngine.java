@@ -1,0 +1,302 @@
+package dev.twofold.service.scoring;
+
+import dev.twofold.service.model.ItemPanels;
+import dev.twofold.service.model.ServingModel;
+import java.util.Arrays;
+import java.util.concurrent.ArrayBlockingQueue;
+import java.util.concurrent.ConcurrentLinkedDeque;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.locks.LockSupport;
+
+/**
+ * Scores every item for many requests at once and keeps each request's best few.
+ *
+ * <p><b>Why batches.</b> Ranking one user reads all of Q (20,000 items × rank 64 = 5 MB) for
+ * n·k multiply-adds; done request by request, memory traffic and loop overhead bound a core to a
+ * few thousand requests a second. Here concurrent requests are scored together: one pass over Q,
+ * block of {@value #BLOCK_PANELS} panels ({@link ItemPanels}) by block, each block (64 KiB at
+ * k = 64) scored for every request of the batch while it sits in the core's cache, four requests
+ * per SIMD pass ({@link BlockKernel}). A request's best {@code count} items are kept in a bounded
+ * heap ({@link TopK}) as the blocks go by; an item is looked up in the request's sorted skip list
+ * (rated and excluded items) only when its score would enter the heap. Cost per batch:
+ * O(n·k·batch) arithmetic, O(n·k) reads of Q, O(n·batch) comparisons.
+ *
+ * <p><b>How requests meet (flat combining).</b> There is no scoring thread. A request enqueues a
+ * job; if one of the {@code combiners} scratch areas is free, its own thread takes it and scores
+ * batches of whatever is queued (up to {@value #MAX_BATCH} jobs of the same model) until its own
+ * job is done, then hands the scratch area back and wakes the waiter at the head of the queue.
+ * Otherwise it parks until a combiner has scored its job or hands over. With little traffic a
+ * request is scored by its own thread at once; under load, batches form by themselves. At most
+ * {@code combiners} threads score at a time (default: one per core), the rest wait without
+ * spinning.
+ *
+ * <p>Thread-safe. Jobs of different models (during a swap) are never batched together.
+ */
+public final class ScoringEngine {
+
+    /** Most jobs scored in one pass over Q. */
+    static final int MAX_BATCH = 16;
+    /** Panels per cache block: 16 × 16 items × k floats = 64 KiB at k = 64. */
+    static final int BLOCK_PANELS = 16;
+    /** A parked waiter re-checks at least this often (a safety net; hand-offs normally wake it). */
+    private static final long PARK_NANOS = TimeUnit.MILLISECONDS.toNanos(10);
+
+    private final BlockKernel kernel;
+    private final int combiners;
+    private final ConcurrentLinkedDeque<Job> pending = new ConcurrentLinkedDeque<>();
+    /** A free scratch area is the right to score; taking one makes a thread a combiner. */
+    private final ArrayBlockingQueue<Scratch> idle;
+
+    /** One combiner per available processor, with the fastest kernel this JVM can run. */
+    public ScoringEngine() {
+        this(Runtime.getRuntime().availableProcessors(), BlockKernels.best());
+    }
+
+    ScoringEngine(int combiners, BlockKernel kernel) {
+        if (combiners < 1) {
+            throw new IllegalArgumentException("combiners " + combiners + " must be >= 1");
+        }
+        this.kernel = kernel;
+        this.combiners = combiners;
+        this.idle = new ArrayBlockingQueue<>(combiners);
+        for (int c = 0; c < combiners; c++) {
+            idle.add(new Scratch());
+        }
+    }
+
+    /** Whether the SIMD kernel is in use (the JVM resolved {@code jdk.incubator.vector}). */
+    public boolean simd() {
+        return kernel instanceof VectorBlockKernel;
+    }
+
+    /** What scores the items: the kernel in use, for the start-up log. */
+    public String description() {
+        return kernel.description() + ", up to " + MAX_BATCH + " requests per pass over Q, " + combiners
+                + " combiners";
+    }
+
+    /**
+     * The best {@code count} items by b_i + x·q_i, where x is the k-vector at {@code x[xOffset]},
+     * leaving out the items in {@code skip[skipFrom..skipTo)} (serving item indices, sorted
+     * ascending). Equal scores rank the lower item index first. Blocks until scored.
+     */
+    public Ranked rank(ServingModel model, float[] x, int xOffset, int count, int[] skip, int skipFrom, int skipTo) {
+        return run(new Job(model, x, xOffset, 1f, false, -1, count, skip, skipFrom, skipTo));
+    }
+
+    /**
+     * The best {@code count} items by cosine similarity of their factors with those of
+     * {@code item}, leaving out the item itself and {@code skip[skipFrom..skipTo)} (sorted). Items
+     * with all-zero factors have similarity 0.
+     */
+    public Ranked similar(ServingModel model, int item, int count, int[] skip, int skipFrom, int skipTo) {
+        return run(new Job(model, model.itemFactors(), item * model.rank(), model.inverseNorms()[item], true, item,
+                count, skip, skipFrom, skipTo));
+    }
+
+    private Ranked run(Job job) {
+        if (job.count < 0) {
+            throw new IllegalArgumentException("count " + job.count + " must be >= 0");
+        }
+        pending.offerLast(job);
+        while (!job.done) {
+            Scratch s = idle.poll();
+            if (s == null) {
+                LockSupport.parkNanos(this, PARK_NANOS);
+                continue;
+            }
+            boolean scored;
+            try {
+                scored = combine(s, job);
+            } finally {
+                idle.offer(s);
+            }
+            handOff();
+            if (!job.done && !scored) {
+                // our job is in another combiner's batch right now; it wakes us when done
+                LockSupport.parkNanos(this, PARK_NANOS);
+            }
+        }
+        if (job.failure != null) {
+            throw new IllegalStateException("scoring failed in the batch that held this request", job.failure);
+        }
+        return new Ranked(job.items, job.scores);
+    }
+
+    /** Scores batches until {@code mine} is done or nothing is queued; true when it scored anything. */
+    private boolean combine(Scratch s, Job mine) {
+        boolean scored = false;
+        while (!mine.done) {
+            int size = drain(s);
+            if (size == 0) {
+                return scored;
+            }
+            scored = true;
+            try {
+                score(s, size);
+            } catch (RuntimeException | Error e) {
+                for (int b = 0; b < size; b++) {
+                    s.batch[b].failure = e;
+                }
+            } finally {
+                for (int b = 0; b < size; b++) {
+                    Job job = s.batch[b];
+                    s.batch[b] = null;
+                    job.done = true;
+                    LockSupport.unpark(job.waiter);
+                }
+            }
+        }
+        return scored;
+    }
+
+    /** Wakes the waiter of the oldest queued job so it can take the scratch area just freed. */
+    private void handOff() {
+        Job head = pending.peekFirst();
+        if (head != null) {
+            LockSupport.unpark(head.waiter);
+        }
+    }
+
+    /** Takes up to MAX_BATCH queued jobs of the same model as the first; returns how many. */
+    private int drain(Scratch s) {
+        Job first = pending.pollFirst();
+        if (first == null) {
+            return 0;
+        }
+        s.batch[0] = first;
+        int size = 1;
+        while (size < MAX_BATCH) {
+            Job next = pending.pollFirst();
+            if (next == null) {
+                break;
+            }
+            if (next.model != first.model) {
+                pending.offerFirst(next);
+                break;
+            }
+            s.batch[size++] = next;
+        }
+        return size;
+    }
+
+    private void score(Scratch s, int size) {
+        ServingModel model = s.batch[0].model;
+        ItemPanels panels = model.panels();
+        int k = model.rank();
+        int n = model.numItems();
+        s.fit(k);
+        for (int b = 0; b < size; b++) {
+            Job job = s.batch[b];
+            for (int f = 0; f < k; f++) {
+                s.x[b * k + f] = job.x[job.xOffset + f] * job.scale;
+            }
+            s.best[b].reset(Math.min(job.count, n));
+        }
+        float[] bias = model.itemBias();
+        float[] inverseNorms = model.inverseNorms();
+        int numPanels = panels.panels();
+        for (int from = 0; from < numPanels; from += BLOCK_PANELS) {
+            int to = Math.min(from + BLOCK_PANELS, numPanels);
+            kernel.dot(panels.data(), k, from, to, s.x, size, s.out);
+            int stride = (to - from) * ItemPanels.WIDTH;
+            int first = from * ItemPanels.WIDTH;
+            int last = Math.min(to * ItemPanels.WIDTH, n);
+            for (int b = 0; b < size; b++) {
+                Job job = s.batch[b];
+                keepBest(job, s.best[b], s.out, b * stride - first, first, last, job.cosine ? inverseNorms : bias,
+                        s.candidates);
+            }
+        }
+        for (int b = 0; b < size; b++) {
+            Job job = s.batch[b];
+            TopK best = s.best[b];
+            int[] items = new int[best.size()];
+            float[] scores = new float[items.length];
+            best.drainBestFirst(items, scores);
+            job.items = items;
+            job.scores = scores;
+        }
+    }
+
+    /**
+     * Offers the items {@code first..last} of a block to the job's heap: score = dot + b_i, or
+     * dot · 1/‖q_i‖ for cosine jobs. The kernel first picks the items that beat the heap's
+     * threshold as it stood at the start of the block (a superset of those that can enter); only
+     * those are offered, after the skip check. Items arrive in increasing index order, so one whose
+     * score only equals the heap's worst never displaces it (ties go to the lower index).
+     */
+    private void keepBest(Job job, TopK best, float[] out, int offset, int first, int last, float[] perItem,
+            int[] candidates) {
+        int found = kernel.above(out, offset, perItem, job.cosine, first, last, best.threshold(), candidates);
+        for (int c = 0; c < found; c++) {
+            int i = candidates[c];
+            float score = job.cosine ? out[offset + i] * perItem[i] : out[offset + i] + perItem[i];
+            if (score > best.threshold() && !job.skips(i)) {
+                best.offer(i, score);
+            }
+        }
+    }
+
+    /** One request: what to score, and where the answer goes. */
+    private static final class Job {
+        final ServingModel model;
+        final float[] x;
+        final int xOffset;
+        final float scale;
+        final boolean cosine;
+        final int self;
+        final int count;
+        final int[] skip;
+        final int skipFrom;
+        final int skipTo;
+        final Thread waiter = Thread.currentThread();
+        int[] items;
+        float[] scores;
+        Throwable failure;
+        volatile boolean done;
+
+        Job(ServingModel model, float[] x, int xOffset, float scale, boolean cosine, int self, int count, int[] skip,
+                int skipFrom, int skipTo) {
+            this.model = model;
+            this.x = x;
+            this.xOffset = xOffset;
+            this.scale = scale;
+            this.cosine = cosine;
+            this.self = self;
+            this.count = count;
+            this.skip = skip;
+            this.skipFrom = skipFrom;
+            this.skipTo = skipTo;
+        }
+
+        boolean skips(int item) {
+            return item == self || (skipTo > skipFrom && Arrays.binarySearch(skip, skipFrom, skipTo, item) >= 0);
+        }
+    }
+
+    /** One combiner's buffers, grown to the largest rank seen. */
+    private static final class Scratch {
+        final Job[] batch = new Job[MAX_BATCH];
+        final TopK[] best = new TopK[MAX_BATCH];
+        float[] x = new float[0];
+        float[] out = new float[0];
+        final int[] candidates = new int[BLOCK_PANELS * ItemPanels.WIDTH];
+
+        Scratch() {
+            for (int b = 0; b < MAX_BATCH; b++) {
+                best[b] = new TopK(16);
+            }
+        }
+
+        void fit(int k) {
+            if (x.length < MAX_BATCH * k) {
+                x = new float[MAX_BATCH * k];
+            }
+            int outLength = MAX_BATCH * BLOCK_PANELS * ItemPanels.WIDTH;
+            if (out.length < outLength) {
+                out = new float[outLength];
+            }
+        }
+    }
+}

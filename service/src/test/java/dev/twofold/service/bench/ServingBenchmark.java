@@ -1,0 +1,238 @@
+package dev.twofold.service.bench;
+
+import dev.twofold.db.registry.ModelFactors;
+import dev.twofold.db.snapshot.IdDirectory;
+import dev.twofold.service.Service;
+import dev.twofold.service.ServiceSettings;
+import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.testing.KitchenModel;
+import io.javalin.Javalin;
+import java.io.IOException;
+import java.lang.management.ManagementFactory;
+import java.net.InetAddress;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.ZonedDateTime;
+import java.util.ArrayList;
+import java.util.BitSet;
+import java.util.List;
+import java.util.Locale;
+import java.util.SplittableRandom;
+import java.util.concurrent.TimeUnit;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+
+/**
+ * The serving benchmark: wrk on loopback against the real service (a synthetic model of 20,000
+ * items at rank 64, users chosen at random by a Lua script) and, in the same run, against a bare
+ * Javalin endpoint returning a short string, the yardstick. A plain main, not a test; it only
+ * talks to 127.0.0.1, runs a bounded time and stops everything it started.
+ *
+ * <pre>
+ * JAVA_OPTS="--add-modules jdk.incubator.vector -Xmx2g" deploy/bench service \
+ *     dev.twofold.service.bench.ServingBenchmark [users items rank seconds connections rounds]
+ * </pre>
+ * Defaults: 100,000 users, 20,000 items, rank 64, 10 s per run, 32 connections, wrk with 2
+ * threads, 2 rounds (bare, service, bare, service), each after a 5 s warm-up.
+ */
+public final class ServingBenchmark {
+
+    private static final long SEED = 20_000L;
+    private static final int RATINGS_PER_USER = 20;
+    private static final int WARMUP_SECONDS = 5;
+    private static final String WRK = "/usr/bin/wrk";
+
+    private ServingBenchmark() {
+    }
+
+    public static void main(String[] args) throws Exception {
+        int users = args.length > 0 ? Integer.parseInt(args[0]) : 100_000;
+        int items = args.length > 1 ? Integer.parseInt(args[1]) : 20_000;
+        int k = args.length > 2 ? Integer.parseInt(args[2]) : 64;
+        int seconds = args.length > 3 ? Integer.parseInt(args[3]) : 10;
+        int connections = args.length > 4 ? Integer.parseInt(args[4]) : 32;
+        int rounds = args.length > 5 ? Integer.parseInt(args[5]) : 2;
+
+        ServingModel model = syntheticModel(users, items, k, SEED);
+        Path dir = Files.createTempDirectory("twofold-bench-");
+        Path script = dir.resolve("random-users.lua");
+        Files.writeString(script, luaScript(users), StandardCharsets.UTF_8);
+        Path bareScript = dir.resolve("bare.lua");
+        Files.writeString(bareScript, "request = function() return wrk.format(\"GET\", \"/hello\") end\n",
+                StandardCharsets.UTF_8);
+
+        Javalin bare = Javalin.create(config -> {
+            config.startup.showJavalinBanner = false;
+            config.routes.get("/hello", ctx -> ctx.result("hello"));
+        });
+        bare.start("127.0.0.1", 0);
+        try (Service service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(5),
+                Duration.ofSeconds(2)))) {
+            service.install(model);
+            int port = service.start();
+            String bareUrl = "http://127.0.0.1:" + bare.port();
+            String serviceUrl = "http://127.0.0.1:" + port;
+
+            System.out.printf(Locale.ROOT, "# serving benchmark %s%n", ZonedDateTime.now());
+            System.out.printf(Locale.ROOT, "machine: %d cores (%s), %s %s, JVM %s, max heap %d MiB%n",
+                    Runtime.getRuntime().availableProcessors(), cpuName(), System.getProperty("os.name"),
+                    System.getProperty("os.version"), System.getProperty("java.vm.version"),
+                    Runtime.getRuntime().maxMemory() >> 20);
+            System.out.printf(Locale.ROOT, "model: %,d users, %,d items, rank %d, %d ratings per user; wrk -t2 -c%d"
+                    + " -d%ds; load average before: %s%n", users, items, k, RATINGS_PER_USER, connections, seconds,
+                    loadAverage());
+
+            wrk(bareUrl, bareScript, WARMUP_SECONDS, connections);
+            wrk(serviceUrl, script, WARMUP_SECONDS, connections);
+            List<String> rows = new ArrayList<>();
+            for (int round = 1; round <= rounds; round++) {
+                Result b = wrk(bareUrl, bareScript, seconds, connections);
+                Result s = wrk(serviceUrl, script, seconds, connections);
+                rows.add(String.format(Locale.ROOT, "| %d | %,.0f | %.2f | %,.0f | %.2f | %.2f | %.1f%% | %s |", round,
+                        b.requestsPerSecond, b.p99Millis, s.requestsPerSecond, s.p50Millis, s.p99Millis,
+                        100 * s.requestsPerSecond / b.requestsPerSecond, s.errors == 0 && b.errors == 0 ? "0"
+                                : b.errors + " / " + s.errors));
+            }
+            System.out.println();
+            System.out.println("| round | bare req/s | bare p99 ms | service req/s | service p50 ms | service p99 ms"
+                    + " | ratio | errors |");
+            System.out.println("|---|---|---|---|---|---|---|---|");
+            rows.forEach(System.out::println);
+            System.out.printf(Locale.ROOT, "%nload average after: %s%n", loadAverage());
+        } finally {
+            bare.stop();
+        }
+    }
+
+    /** One user per request, uniformly among all users, ten items each. */
+    static String luaScript(int users) {
+        return "math.randomseed(" + SEED + ")\n"
+                + "request = function()\n"
+                + "  return wrk.format(\"GET\", \"/v1/users/cook-\" .. math.random(0, " + (users - 1)
+                + ") .. \"/recommendations?count=10\")\n"
+                + "end\n"
+                + "response = function(status, headers, body)\n"
+                + "  if status ~= 200 then wrk.thread:stop() end\n"
+                + "end\n";
+    }
+
+    record Result(double requestsPerSecond, double p50Millis, double p99Millis, long errors) {
+    }
+
+    private static Result wrk(String url, Path script, int seconds, int connections) throws IOException,
+            InterruptedException {
+        Process p = new ProcessBuilder(WRK, "-t2", "-c" + connections, "-d" + seconds + "s", "--latency",
+                "--timeout", "5s", "-s", script.toString(), url).redirectErrorStream(true).start();
+        String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+        if (!p.waitFor(seconds + 30L, TimeUnit.SECONDS)) {
+            p.destroyForcibly();
+            throw new IllegalStateException("wrk did not finish");
+        }
+        double rps = number(out, "Requests/sec:\\s+([0-9.]+)");
+        double p50 = millis(out, "50%");
+        double p99 = millis(out, "99%");
+        Matcher errors = Pattern.compile("Non-2xx or 3xx responses: (\\d+)").matcher(out);
+        Matcher socket = Pattern.compile("Socket errors: connect (\\d+), read (\\d+), write (\\d+), timeout (\\d+)")
+                .matcher(out);
+        long errorCount = errors.find() ? Long.parseLong(errors.group(1)) : 0;
+        if (socket.find()) {
+            for (int g = 1; g <= 4; g++) {
+                errorCount += Long.parseLong(socket.group(g));
+            }
+        }
+        return new Result(rps, p50, p99, errorCount);
+    }
+
+    private static double number(String text, String regex) {
+        Matcher m = Pattern.compile(regex).matcher(text);
+        if (!m.find()) {
+            throw new IllegalStateException("unexpected wrk output:\n" + text);
+        }
+        return Double.parseDouble(m.group(1));
+    }
+
+    /** A latency percentile line of wrk --latency ("99%    3.21ms") in milliseconds. */
+    private static double millis(String text, String percentile) {
+        Matcher m = Pattern.compile("\\s" + Pattern.quote(percentile) + "\\s+([0-9.]+)(us|ms|s)").matcher(text);
+        if (!m.find()) {
+            throw new IllegalStateException("no " + percentile + " latency in wrk output:\n" + text);
+        }
+        double v = Double.parseDouble(m.group(1));
+        return switch (m.group(2)) {
+            case "us" -> v / 1000;
+            case "s" -> v * 1000;
+            default -> v;
+        };
+    }
+
+    private static String loadAverage() {
+        try {
+            return Files.readString(Path.of("/proc/loadavg")).trim();
+        } catch (IOException e) {
+            return String.format(Locale.ROOT, "%.2f", ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage());
+        }
+    }
+
+    private static String cpuName() {
+        try {
+            for (String line : Files.readAllLines(Path.of("/proc/cpuinfo"))) {
+                if (line.startsWith("model name")) {
+                    return line.substring(line.indexOf(':') + 1).trim();
+                }
+            }
+        } catch (IOException e) {
+            // not Linux
+        }
+        return System.getProperty("os.arch");
+    }
+
+    /** Random factors, every user and item known, {@value #RATINGS_PER_USER} random rated items per user. */
+    static ServingModel syntheticModel(int users, int items, int k, long seed) {
+        SplittableRandom random = new SplittableRandom(seed);
+        float[] P = new float[users * k];
+        float[] Q = new float[items * k];
+        for (int j = 0; j < P.length; j++) {
+            P[j] = (float) (random.nextDouble() - 0.5);
+        }
+        for (int j = 0; j < Q.length; j++) {
+            Q[j] = (float) (random.nextDouble() - 0.5);
+        }
+        float[] bU = new float[users];
+        float[] bI = new float[items];
+        float[] popularity = new float[items];
+        for (int i = 0; i < items; i++) {
+            bI[i] = (float) (random.nextDouble() - 0.5);
+            popularity[i] = random.nextInt(1000);
+        }
+        String[] userIds = new String[users];
+        String[] itemIds = new String[items];
+        for (int u = 0; u < users; u++) {
+            userIds[u] = "cook-" + u;
+        }
+        for (int i = 0; i < items; i++) {
+            itemIds[i] = "recipe-" + i;
+        }
+        int[] ratingUser = new int[users * RATINGS_PER_USER];
+        int[] ratingItem = new int[ratingUser.length];
+        for (int r = 0; r < ratingUser.length; r++) {
+            ratingUser[r] = r / RATINGS_PER_USER;
+            ratingItem[r] = random.nextInt(items);
+        }
+        BitSet knownUsers = new BitSet(users);
+        knownUsers.set(0, users);
+        BitSet knownItems = new BitSet(items);
+        knownItems.set(0, items);
+        ModelFactors factors = new ModelFactors(k, P, bU, knownUsers, Q, bI, popularity, knownItems, null);
+        return ServingModel.assemble(KitchenModel.header(1, k, users, items, 3.5f, 1f, 5f), factors,
+                new IdDirectory(userIds, itemIds), ratingUser, ratingItem);
+    }
+
+    static {
+        // keep the benchmark on loopback only
+        if (!InetAddress.getLoopbackAddress().getHostAddress().startsWith("127.")) {
+            throw new IllegalStateException("loopback is not 127.x");
+        }
+    }
+}
