@@ -158,7 +158,8 @@ class DashboardBrowserTest {
             assertTrue(legend.contains(entry), entry + " not in the legend: " + legend);
         }
         String strategies = text("#chart-strategies .summary");
-        assertTrue(strategies.startsWith("Share over the window: model ") && strategies.contains("popular"), strategies);
+        assertTrue(strategies.startsWith("Share over the window: model ") && strategies.contains("trust")
+                && strategies.contains("popular"), strategies);
     }
 
     @Test

@@ -66,6 +66,7 @@ final class TrainedCommunity implements AutoCloseable {
     final long failedModel;
     final List<String> cooks;
     final List<String> recipes;
+    private int followers;
 
     private TrainedCommunity(Database database, Service service, ApiClient api, long[] models, List<String> cooks,
             List<String> recipes) {
@@ -151,8 +152,8 @@ final class TrainedCommunity implements AutoCloseable {
 
     /**
      * Real API traffic: recommendations for known cooks (strategy model) and unknown ones
-     * (popular), predictions, two invalid requests (400), an unknown path (404) and a rating
-     * written (202, folded in).
+     * (popular), predictions, two invalid requests (400), an unknown path (404), a rating written
+     * (202, folded in), and a new cook who only follows others (served by trust).
      */
     Traffic sendTraffic(int knownCooks) {
         int model = 0;
@@ -174,15 +175,24 @@ final class TrainedCommunity implements AutoCloseable {
                 + recipes.get(recipes.size() - 1) + "\", \"rating\": 4}]");
         assertEquals(202, wrote.statusCode(), wrote.body());
         int folded = ApiClient.json(wrote).path("foldedUsers").asInt();
-        return new Traffic(model, popular, 1, 2, 1, folded);
+
+        // a cook who rated nothing but follows two others is served from the cooks they trust
+        String follower = "follower-" + (++followers);
+        HttpResponse<String> follows = api.postJson("/v1/trust", "[{\"truster\": \"" + follower + "\", \"trustee\": \""
+                + cooks.get(0) + "\"}, {\"truster\": \"" + follower + "\", \"trustee\": \"" + cooks.get(1) + "\"}]");
+        assertEquals(202, follows.statusCode(), follows.body());
+        folded += ApiClient.json(follows).path("foldedUsers").asInt();
+        HttpResponse<String> trusted = api.get("/v1/users/" + follower + "/recommendations?count=5");
+        assertEquals("trust", ApiClient.json(trusted).path("strategy").asText(), trusted.body());
+        return new Traffic(model, popular, 1, 1, 2, 1, folded);
     }
 
     /** What {@link #sendTraffic} sent, and how many users the service folded in after the write. */
-    record Traffic(int modelRecommendations, int popularRecommendations, int predictions, int badRequests,
-            int notFound, int foldedUsers) {
+    record Traffic(int modelRecommendations, int popularRecommendations, int trustRecommendations, int predictions,
+            int badRequests, int notFound, int foldedUsers) {
 
-        int recommendationRequests() {
-            return modelRecommendations + popularRecommendations + badRequests;
+        int servedRecommendations() {
+            return modelRecommendations + popularRecommendations + trustRecommendations;
         }
     }
 
