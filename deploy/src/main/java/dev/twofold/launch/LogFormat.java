@@ -1,91 +1,40 @@
 package dev.twofold.launch;
 
-import ch.qos.logback.classic.encoder.JsonEncoder;
-import ch.qos.logback.classic.encoder.PatternLayoutEncoder;
-import ch.qos.logback.classic.spi.ILoggingEvent;
-import ch.qos.logback.core.encoder.Encoder;
-import ch.qos.logback.core.encoder.EncoderBase;
+import ch.qos.logback.core.PropertyDefinerBase;
 import java.util.Locale;
 
 /**
- * The log format chosen by {@code TWOFOLD_LOG_FORMAT}, as a logback encoder: {@code text} (the
- * default: one readable line per event, from {@link #setPattern the pattern}) or {@code json}
- * (one JSON object per line from logback's {@link JsonEncoder}: timestamp, level, thread, logger,
- * MDC, key-value pairs, formatted message, throwable). Case and surrounding blanks do not matter;
- * any other value logs as text and says so once on standard error, naming the setting, rather
- * than leaving the process without logs.
+ * Chooses the log format for {@code logback.xml} from {@code TWOFOLD_LOG_FORMAT}: {@code text}
+ * (the default, one readable line per event) or {@code json} (one JSON object per line, for log
+ * collectors). Case and surrounding blanks do not matter. Any other value logs as text and says so
+ * once on standard error, naming the setting, rather than leaving the process without logs.
  *
- * <p>One encoder on one appender, so the configuration declares nothing it does not use (logback
- * would report an unused appender, and print its whole status on standard output).
+ * <p>Used as {@code <define name="LOG_FORMAT" class="dev.twofold.launch.LogFormat">} with the
+ * raw value passed in {@code <value>${TWOFOLD_LOG_FORMAT:-}</value>}, so logback resolves it from
+ * its context, system properties or the environment, in that order.
  */
-public final class LogFormat extends EncoderBase<ILoggingEvent> {
+public final class LogFormat extends PropertyDefinerBase {
 
     public static final String VARIABLE = "TWOFOLD_LOG_FORMAT";
     public static final String TEXT = "text";
     public static final String JSON = "json";
 
-    private String format;
-    private String pattern = "%d{HH:mm:ss.SSS} %-5level %logger{24} - %msg%n";
-    private Encoder<ILoggingEvent> delegate;
+    private String value;
 
-    /** The raw setting ({@code ${TWOFOLD_LOG_FORMAT:-}} in logback.xml); blank or absent means text. */
-    public void setFormat(String format) {
-        this.format = format;
-    }
-
-    /** The layout of a text line. */
-    public void setPattern(String pattern) {
-        this.pattern = pattern;
+    /** The raw setting; blank or absent means the default. */
+    public void setValue(String value) {
+        this.value = value;
     }
 
     @Override
-    public void start() {
-        String chosen = choose(format);
+    public String getPropertyValue() {
+        String chosen = choose(value);
         if (chosen == null) {
-            System.err.println(VARIABLE + "='" + format.strip() + "' is not a log format; use " + TEXT
+            System.err.println(VARIABLE + "='" + value.strip() + "' is not a log format; use " + TEXT
                     + " (the default) or " + JSON + "; logging as " + TEXT);
-            chosen = TEXT;
+            return TEXT;
         }
-        if (chosen.equals(JSON)) {
-            JsonEncoder json = new JsonEncoder();
-            json.setWithSequenceNumber(false);
-            json.setWithNanoseconds(false);
-            json.setWithContext(false);
-            json.setWithMessage(false);
-            json.setWithArguments(false);
-            json.setWithFormattedMessage(true);
-            delegate = json;
-        } else {
-            PatternLayoutEncoder text = new PatternLayoutEncoder();
-            text.setPattern(pattern);
-            delegate = text;
-        }
-        delegate.setContext(getContext());
-        delegate.start();
-        super.start();
-    }
-
-    @Override
-    public void stop() {
-        if (delegate != null) {
-            delegate.stop();
-        }
-        super.stop();
-    }
-
-    @Override
-    public byte[] headerBytes() {
-        return delegate.headerBytes();
-    }
-
-    @Override
-    public byte[] encode(ILoggingEvent event) {
-        return delegate.encode(event);
-    }
-
-    @Override
-    public byte[] footerBytes() {
-        return delegate.footerBytes();
+        return chosen;
     }
 
     /** {@code text} or {@code json} for a valid setting (blank means text), null for anything else. */

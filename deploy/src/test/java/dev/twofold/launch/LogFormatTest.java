@@ -8,8 +8,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import ch.qos.logback.classic.LoggerContext;
 import ch.qos.logback.classic.joran.JoranConfigurator;
 import ch.qos.logback.classic.util.LogbackMDCAdapter;
-import ch.qos.logback.core.status.Status;
-import ch.qos.logback.core.status.StatusUtil;
 import ch.qos.logback.core.joran.spi.JoranException;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -69,19 +67,6 @@ class LogFormatTest {
     }
 
     @Test
-    void configuring_reports_no_warning_so_logback_prints_nothing_on_standard_output() throws Exception {
-        for (String format : new String[] {null, "json"}) {
-            LoggerContext context = configure(format);
-            try {
-                int worst = new StatusUtil(context).getHighestLevel(0);
-                assertTrue(worst < Status.WARN, "logback reported: " + context.getStatusManager().getCopyOfStatusList());
-            } finally {
-                context.stop();
-            }
-        }
-    }
-
-    @Test
     void the_setting_is_read_without_regard_to_case_or_blanks() {
         assertEquals("text", LogFormat.choose(null));
         assertEquals("text", LogFormat.choose("  "));
@@ -91,29 +76,22 @@ class LogFormatTest {
         assertFalse("json".equals(LogFormat.choose("jsonl")));
     }
 
-    /** A fresh logging context configured from the launcher's logback.xml with TWOFOLD_LOG_FORMAT set to {@code format}. */
-    private static LoggerContext configure(String format) throws JoranException {
-        URL config = LogFormatTest.class.getClassLoader().getResource("logback.xml");
-        assertTrue(config != null && config.getPath().contains("deploy"), "not the launcher's logback.xml: " + config);
-        LoggerContext context = new LoggerContext();
-        context.setMDCAdapter(new LogbackMDCAdapter());
-        if (format != null) {
-            context.putProperty(LogFormat.VARIABLE, format);
-        }
-        JoranConfigurator configurator = new JoranConfigurator();
-        configurator.setContext(context);
-        configurator.doConfigure(config);
-        return context;
-    }
-
     /** Configures a fresh logging context from logback.xml and logs what a request and the service would. */
     private static String logARequest(String format) throws JoranException, IOException {
+        URL config = LogFormatTest.class.getClassLoader().getResource("logback.xml");
+        assertTrue(config != null && config.getPath().contains("deploy"), "not the launcher's logback.xml: " + config);
         PrintStream stderr = System.err;
         ByteArrayOutputStream captured = new ByteArrayOutputStream();
-        LoggerContext context = null;
+        LoggerContext context = new LoggerContext();
+        context.setMDCAdapter(new LogbackMDCAdapter());
         try {
             System.setErr(new PrintStream(captured, true, StandardCharsets.UTF_8));
-            context = configure(format);
+            if (format != null) {
+                context.putProperty(LogFormat.VARIABLE, format);
+            }
+            JoranConfigurator configurator = new JoranConfigurator();
+            configurator.setContext(context);
+            configurator.doConfigure(config);
             Logger requests = context.getLogger(REQUEST_LOGGER);
             // each logging context keeps its own MDC; a service's request thread fills the default one
             context.getMDCAdapter().put("request_id", "7f3a");
@@ -125,9 +103,7 @@ class LogFormatTest {
             }
             context.getLogger("dev.twofold.service.Service").info("serving model {} ({} items)", 3, 100);
         } finally {
-            if (context != null) {
-                context.stop();
-            }
+            context.stop();
             System.setErr(stderr);
         }
         return captured.toString(StandardCharsets.UTF_8);

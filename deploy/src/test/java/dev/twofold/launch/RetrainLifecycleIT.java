@@ -10,12 +10,17 @@ import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.db.testing.TestDatabases;
+import java.net.URI;
+import java.net.http.HttpClient;
+import java.net.http.HttpRequest;
+import java.net.http.HttpResponse;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.sql.Connection;
 import java.sql.ResultSet;
 import java.sql.Statement;
+import java.time.Duration;
 import java.util.List;
 import java.util.Map;
 import org.junit.jupiter.api.AfterAll;
@@ -31,7 +36,8 @@ import org.postgresql.PGNotification;
 /**
  * The retrain lifecycle as a data engineer's scheduler meets it: the shaded jar in real processes on
  * a real PostgreSQL, killed with SIGKILL at named points (the {@code twofold.pauseAt} test hook stops
- * a process there so the kill lands deterministically), two trains at once, rollback.
+ * a process there so the kill lands deterministically), two trains at once, rollback followed by a
+ * running service.
  */
 @TestMethodOrder(MethodOrderer.OrderAnnotation.class)
 class RetrainLifecycleIT {
@@ -43,6 +49,9 @@ class RetrainLifecycleIT {
     static final ObjectMapper JSON = new ObjectMapper();
     /** How long to wait for a notification that must arrive. */
     static final int NOTIFY_WAIT_MS = 10_000;
+    /** How long a running service may take to switch models after a promotion or rollback. */
+    static final Duration SWITCH_TIMEOUT = Duration.ofSeconds(30);
+    static final HttpClient HTTP = HttpClient.newHttpClient();
 
     static Database database;
     static Map<String, String> env;
@@ -162,6 +171,78 @@ class RetrainLifecycleIT {
             assertEquals(LauncherProcess.EXIT_AFTER_SIGKILL, p.killHard());
         }
         assertEquals(before, checksum());
+    }
+
+    @Test
+    @Order(7)
+    void a_candidate_judged_against_a_model_replaced_by_hand_during_the_run_is_kept_not_promoted() throws Exception {
+        long live = registry.active().orElseThrow().id();
+        long older = registry.previous().orElseThrow();
+        try (LauncherProcess p = LauncherProcess.start(List.of("-Dtwofold.pauseAt=promote"), env, work, "train",
+                "--epochs", EPOCHS, "--json")) {
+            p.awaitStderr("paused at promote");
+            ok(LauncherProcess.run(env, work, "models", "promote", Long.toString(older))); // a person steps in
+            p.resume();
+            assertEquals(0, p.await(), p.describe());
+            JsonNode report = JSON.readTree(p.stdout());
+            assertEquals("candidate", report.get("outcome").asText());
+            assertEquals(live, report.get("liveModelId").asLong());
+            assertEquals(older, report.get("activeModelId").asLong());
+            assertTrue(report.get("reason").asText().startsWith("the active model changed while this retrain ran"),
+                    report.toString());
+            ModelHeader kept = registry.find(report.get("modelId").asLong()).orElseThrow();
+            assertEquals("candidate", kept.status());
+            assertEquals(report.get("reason").asText(), kept.reason());
+        }
+        assertEquals(older, registry.active().orElseThrow().id(), "the person's choice stands");
+    }
+
+    @Test
+    @Order(8)
+    void a_running_service_follows_a_rollback_and_a_promotion() throws Exception {
+        long live = registry.active().orElseThrow().id();
+        long previous = registry.previous().orElseThrow();
+        String user = aUserWithRatings();
+        int port = LauncherProcess.freePort();
+        try (LauncherProcess serve = LauncherProcess.start(
+                LauncherProcess.env(env, "TWOFOLD_HTTP_PORT", Integer.toString(port)), work, "serve")) {
+            String url = "http://127.0.0.1:" + port + "/v1/users/" + user + "/recommendations?count=5";
+            serve.awaitReady(HTTP, "http://127.0.0.1:" + port + "/health/ready");
+            assertEquals(live, servedModel(url));
+
+            ok(LauncherProcess.run(env, work, "models", "rollback"));
+            assertEquals(previous, awaitServedModel(serve, url, previous), "the service switched to the rolled-back model");
+
+            ok(LauncherProcess.run(env, work, "models", "promote", Long.toString(live)));
+            assertEquals(live, awaitServedModel(serve, url, live), "and back on promotion");
+            assertEquals(LauncherProcess.EXIT_AFTER_SIGTERM, serve.terminate(), serve.describe());
+        }
+    }
+
+    private static long servedModel(String url) throws Exception {
+        HttpResponse<String> r = HTTP.send(HttpRequest.newBuilder(URI.create(url)).build(), HttpResponse.BodyHandlers.ofString());
+        assertEquals(200, r.statusCode(), url + " -> " + r.body());
+        return JSON.readTree(r.body()).get("model").asLong();
+    }
+
+    /** Polls until the service answers from {@code expected}; returns the last model seen when the wait ends. */
+    private static long awaitServedModel(LauncherProcess serve, String url, long expected) throws Exception {
+        long deadline = System.nanoTime() + SWITCH_TIMEOUT.toNanos();
+        long seen = servedModel(url);
+        while (seen != expected && System.nanoTime() < deadline && serve.isAlive()) {
+            Thread.sleep(100);
+            seen = servedModel(url);
+        }
+        return seen;
+    }
+
+    private static String aUserWithRatings() throws Exception {
+        try (Connection c = database.dataSource().getConnection(); Statement s = c.createStatement();
+                ResultSet rs = s.executeQuery("select u.external_id from users u join ratings r on r.user_idx = u.idx"
+                        + " group by u.external_id order by count(*) desc, u.external_id limit 1")) {
+            rs.next();
+            return rs.getString(1);
+        }
     }
 
     /**

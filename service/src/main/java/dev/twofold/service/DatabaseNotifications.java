@@ -33,6 +33,8 @@ final class DatabaseNotifications implements AutoCloseable {
     private static final Logger LOG = LoggerFactory.getLogger(DatabaseNotifications.class);
     /** Longest a wait for notifications blocks, which bounds how long close() waits. */
     static final int WAIT_MS = 500;
+    /** A connection that died without closing (no reset from the peer) is noticed by a query this often. */
+    static final long PROBE_INTERVAL_MS = 10_000;
 
     private final Database database;
     private final Runnable onPromotion;
@@ -98,7 +100,15 @@ final class DatabaseNotifications implements AutoCloseable {
         }
         PGConnection pg = c.unwrap(PGConnection.class);
         onPromotion.run();
+        long probeAt = System.nanoTime() + PROBE_INTERVAL_MS * 1_000_000L;
         while (!closed) {
+            if (System.nanoTime() - probeAt > 0) {
+                try (Statement s = c.createStatement()) {
+                    s.setQueryTimeout((int) Math.max(1, PROBE_INTERVAL_MS / 1000));
+                    s.execute("select 1");
+                }
+                probeAt = System.nanoTime() + PROBE_INTERVAL_MS * 1_000_000L;
+            }
             PGNotification[] notes = pg.getNotifications(WAIT_MS);
             if (notes == null) {
                 continue;

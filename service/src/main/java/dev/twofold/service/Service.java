@@ -7,16 +7,14 @@ import dev.twofold.service.fresh.LiveModel;
 import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.HttpApi;
-import dev.twofold.service.http.ServingObserver;
 import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.model.ModelSource;
 import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.scoring.Ranker;
+import java.util.List;
 import dev.twofold.service.ops.Observability;
 import dev.twofold.service.ops.OpsSettings;
-import dev.twofold.service.scoring.Ranker;
-import dev.twofold.service.scoring.Strategy;
 import java.time.Clock;
-import java.util.List;
 import java.util.Optional;
 import java.util.UUID;
 import java.util.concurrent.ExecutorService;
@@ -40,10 +38,6 @@ import org.slf4j.LoggerFactory;
  * a user erased by any process is dropped from memory when the erasure is announced, and users
  * who wrote through another service on the same database are folded in here too.
  *
- * <p>Every service has its operator view ({@link Observability}): {@code GET /metrics},
- * {@code GET /dashboard}, request ids and the request log; with a database it also measures the
- * connection pool and reads the retrain history from the model registry.
- *
  * <p>Lifecycle: construct, {@link #start()} once, {@link #close()} (safe to call again, and
  * without a start). Closing stops following models, stops accepting connections and lets
  * requests in flight finish for up to {@link ServiceSettings#stopTimeout()}. The database belongs
@@ -60,12 +54,13 @@ public final class Service implements AutoCloseable {
     private final ModelWatcher watcher;
     private final DatabaseNotifications listener;
     private final HttpApi http;
-    private final Observability ops;
     private final ExecutorService refresher = Executors.newSingleThreadExecutor(task -> {
         Thread t = new Thread(task, "twofold-refresh");
         t.setDaemon(true);
         return t;
     });
+    private final Observability ops;
+    private final boolean ownsOps;
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
@@ -75,41 +70,39 @@ public final class Service implements AutoCloseable {
         this(settings, AccessPolicy.OPEN);
     }
 
-    /** A service without a database: models are {@link #install}ed by the caller. */
+    /** A service without a database, with its own operator view: models are {@link #install}ed by the caller. */
     public Service(ServiceSettings settings, AccessPolicy access) {
-        this(settings, access, null, null, ServingObserver.NONE);
+        this(settings, access, null, null, null);
     }
 
-    /** A service on a database, following its active model. */
+    /** A service on a database, following its active model, with its own operator view (no retrain history). */
     public Service(ServiceSettings settings, AccessPolicy access, Database database) {
-        this(settings, access, database, OpsSettings.defaults());
+        this(settings, access, database, database == null ? null : new ModelLoader(database), null);
     }
 
     /**
-     * A service on a database (following its active model), or without one (null), whose
-     * operator view samples and refreshes as {@code opsSettings} says.
+     * A service without a database whose operator view the caller owns.
+     *
+     * @param ops the operator's view (metrics, request log, dashboard); the caller closes it after the service
      */
-    public Service(ServiceSettings settings, AccessPolicy access, Database database, OpsSettings opsSettings) {
-        this(settings, access, database, database == null ? null : new ModelLoader(database), ServingObserver.NONE,
-                opsSettings);
+    public Service(ServiceSettings settings, AccessPolicy access, Observability ops) {
+        this(settings, access, null, null, ops);
     }
 
     /**
      * @param database where data is written and models are administered, or null for none
      * @param models   where the active model is found and loaded, or null to install models by hand
-     * @param observer told of every request and recommendation, besides the service's own metrics
+     * @param ops      the operator's view (metrics, request log, dashboard), which the caller closes
+     *                 after the service; null for one of the service's own, without retrain history
      */
     public Service(ServiceSettings settings, AccessPolicy access, Database database, ModelSource models,
-            ServingObserver observer) {
-        this(settings, access, database, models, observer, OpsSettings.defaults());
-    }
-
-    /** As above, with the operator view sampling and refreshing as {@code opsSettings} says. */
-    public Service(ServiceSettings settings, AccessPolicy access, Database database, ModelSource models,
-            ServingObserver observer, OpsSettings opsSettings) {
+            Observability ops) {
         this.settings = settings;
-        this.ops = new Observability(opsSettings, database, Clock.systemUTC());
-        this.live = new LiveModels(settings.freshUsers(), ops.liveModelListener());
+        this.ownsOps = ops == null;
+        this.ops = ops == null ? new Observability(OpsSettings.defaults(), null, Clock.systemUTC()) : ops;
+        this.live = new LiveModels(settings.freshUsers());
+        this.live.onInstall((model, swapNanos) -> this.ops.modelInstalled(model.header(), swapNanos));
+        this.live.onFoldIn(this.ops.metrics()::foldIn);
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
         Intake intake = database == null ? null : new Intake(database, live, origin());
         this.listener = database == null ? null : new DatabaseNotifications(database,
@@ -117,8 +110,8 @@ public final class Service implements AutoCloseable {
                 settings.modelPollInterval());
         RegistryControl control = database == null ? null
                 : new RegistryControl(new ModelRegistry(database), watcher == null ? () -> { } : watcher::checkSoon);
-        this.http = new HttpApi(live::current, ranker, intake, control, access, both(ops.observer(), observer),
-                ops::configure, settings.stopTimeout(), settings.retryAfterSeconds());
+        this.http = new HttpApi(live::current, ranker, intake, control, access, this.ops.observer(), this.ops::configure,
+                settings.stopTimeout(), settings.retryAfterSeconds());
     }
 
     /**
@@ -191,26 +184,6 @@ public final class Service implements AutoCloseable {
         return http.routes();
     }
 
-    /** The operator view's observer, and the caller's when there is one. */
-    private static ServingObserver both(ServingObserver own, ServingObserver other) {
-        if (other == ServingObserver.NONE) {
-            return own;
-        }
-        return new ServingObserver() {
-            @Override
-            public void requestFinished(String method, String route, int status, float millis) {
-                own.requestFinished(method, route, status, millis);
-                other.requestFinished(method, route, status, millis);
-            }
-
-            @Override
-            public void recommended(Strategy strategy, boolean folded) {
-                own.recommended(strategy, folded);
-                other.recommended(strategy, folded);
-            }
-        };
-    }
-
     /** Folds in, off the listener's thread, the users another service announced as written. */
     private void refreshLater(Intake intake, String payload) {
         List<String> users = intake.announcedByOthers(payload);
@@ -253,7 +226,9 @@ public final class Service implements AutoCloseable {
             if (started) {
                 http.stop();
             }
-            ops.close();
+            if (ownsOps) {
+                ops.close();
+            }
         }
     }
 }

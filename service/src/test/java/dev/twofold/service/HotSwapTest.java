@@ -154,6 +154,39 @@ class HotSwapTest {
         }
     }
 
+    @Test
+    void a_batch_too_large_for_one_announcement_reaches_the_other_service_in_several() throws Exception {
+        DatabaseSettings same = DatabaseSettings.fromEnvironment(TestDatabases.environment(db));
+        try (Database poolA = Database.open(same); Database poolB = Database.open(same);
+                Service a = serviceOn(poolA); Service b = serviceOn(poolB)) {
+            ApiClient apiA = new ApiClient(a.start());
+            b.start();
+            StringBuilder body = new StringBuilder("[");
+            int users = 600;
+            String padding = "x".repeat(100); // 600 ids of ~110 bytes: several 8000-byte payloads
+            for (int u = 0; u < users; u++) {
+                body.append(u == 0 ? "" : ",").append("{\"user\": \"batch-cook-").append(u).append('-').append(padding)
+                        .append("\", \"item\": \"").append(TwoTastes.cake(u % TwoTastes.RECIPES_PER_TASTE))
+                        .append("\", \"rating\": 4}");
+            }
+            HttpResponse<String> posted = apiA.postJson("/v1/ratings", body.append(']').toString());
+            assertEquals(202, posted.statusCode(), posted.body());
+            assertEquals(users, ApiClient.json(posted).path("foldedUsers").asInt());
+            long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(30);
+            int seen = 0;
+            while (seen < users && System.nanoTime() < deadline) {
+                seen = 0;
+                for (int u = 0; u < users; u++) {
+                    if (b.live().fresh().get("batch-cook-" + u + "-" + padding) != null) {
+                        seen++;
+                    }
+                }
+                Thread.sleep(20);
+            }
+            assertEquals(users, seen, "every written user was folded into the other service");
+        }
+    }
+
     /** Waits until every service answers ready with the model; fails after the contract's 5 s. */
     private static void awaitServing(long model, ApiClient... services) throws InterruptedException {
         long deadline = System.nanoTime() + TimeUnit.MILLISECONDS.toNanos(SWITCH_WITHIN_MS);

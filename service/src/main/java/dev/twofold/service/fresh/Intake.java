@@ -63,7 +63,7 @@ public final class Intake {
         for (RatingInput row : rows) {
             users.add(row.user());
         }
-        int folded = refresh(users, report.received());
+        int folded = refresh(users, report.received() + " rows were committed");
         announce(users);
         return new Accepted(report, folded);
     }
@@ -75,7 +75,7 @@ public final class Intake {
         for (TrustInput row : rows) {
             trusters.add(row.truster());
         }
-        int folded = refresh(trusters, report.received());
+        int folded = refresh(trusters, report.received() + " rows were committed");
         announce(trusters);
         return new Accepted(report, folded);
     }
@@ -85,7 +85,7 @@ public final class Intake {
      * Failures are logged: those users are served as before until the next model load.
      */
     public int refresh(List<String> users) {
-        return refresh(new LinkedHashSet<>(users), 0);
+        return refresh(new LinkedHashSet<>(users), "another service announced writes");
     }
 
     /**
@@ -131,7 +131,7 @@ public final class Intake {
     }
 
     /** Re-reads and folds in; after a committed write a failure here is logged, not thrown. */
-    private int refresh(Set<String> users, int rows) {
+    private int refresh(Set<String> users, String context) {
         List<String> all = new ArrayList<>(users);
         int folded = 0;
         try {
@@ -141,8 +141,8 @@ public final class Intake {
                 folded += live.foldIn(reader.read(chunk));
             }
         } catch (TwofoldException | IllegalArgumentException e) {
-            LOG.warn("{} rows were committed, but folding their {} users in failed ({}); they are served as the"
-                    + " model knows them until the next model load", rows, all.size(), e.getMessage());
+            LOG.warn("{}, but folding their {} users in failed ({}); they are served as the model knows them"
+                    + " until the next model load", context, all.size(), e.getMessage());
         }
         return folded;
     }

@@ -12,6 +12,7 @@ import java.util.Optional;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
+import java.util.function.IntConsumer;
 
 /**
  * The current {@link LiveModel}, replaced in one atomic step, and the two ways it changes:
@@ -41,50 +42,37 @@ public final class LiveModels {
     private final Object installs = new Object();
     private final int capacity;
     private final Clock clock;
-    private final Listener listener;
 
-    /**
-     * Told what changed the live model, for metrics: called on the thread that made the change,
-     * right after it; implementations must be fast and thread-safe. {@link #NONE} ignores it all.
-     */
-    public interface Listener {
+    /** Told after every swap: the model now answering and how long the swap took (for metrics). */
+    public interface InstallListener {
+        void installed(ServingModel model, long swapNanos);
+    }
 
-        Listener NONE = new Listener() {
-        };
+    private volatile InstallListener installListener = (model, nanos) -> { };
 
-        /** {@code next} answers requests now; installing it took {@code nanos}, re-solving folded users included. */
-        default void installed(ServingModel next, Optional<ServingModel> replaced, long nanos) {
-        }
+    /** Sets who is told of every swap (one listener; the service's operator view). */
+    public void onInstall(InstallListener listener) {
+        installListener = listener == null ? (model, nanos) -> { } : listener;
+    }
 
-        /** {@code users} users were folded into the live model. */
-        default void foldedIn(int users) {
-        }
+    private volatile IntConsumer foldInListener = users -> { };
+
+    /** Sets who is told how many users each {@link #foldIn} folded in (one listener; the service's operator view). */
+    public void onFoldIn(IntConsumer listener) {
+        foldInListener = listener == null ? users -> { } : listener;
     }
 
     /** @param capacity most users kept folded in per model */
     public LiveModels(int capacity) {
-        this(capacity, Listener.NONE);
-    }
-
-    /**
-     * @param capacity most users kept folded in per model
-     * @param listener told of every install and fold-in
-     */
-    public LiveModels(int capacity, Listener listener) {
-        this(capacity, Clock.systemUTC(), listener);
+        this(capacity, Clock.systemUTC());
     }
 
     LiveModels(int capacity, Clock clock) {
-        this(capacity, clock, Listener.NONE);
-    }
-
-    private LiveModels(int capacity, Clock clock, Listener listener) {
         if (capacity < 0) {
             throw new IllegalArgumentException("fresh user capacity " + capacity + " must be >= 0");
         }
         this.capacity = capacity;
         this.clock = clock;
-        this.listener = listener;
     }
 
     /** What requests answer from now, or null before the first model. */
@@ -103,24 +91,17 @@ public final class LiveModels {
      * not know (see the class comment); returns the model it replaced, if any.
      */
     public Optional<ServingModel> install(ServingModel next) {
-        synchronized (installs) {
-            long started = System.nanoTime();
-            Optional<ServingModel> replaced = replace(next);
-            listener.installed(next, replaced, System.nanoTime() - started);
-            return replaced;
-        }
-    }
-
-    private Optional<ServingModel> replace(ServingModel next) {
         if (next == null) {
             throw new IllegalArgumentException("model must not be null");
         }
+        long started = System.nanoTime();
         synchronized (installs) {
             LiveModel old = current.get();
             if (old == null) {
                 synchronized (writes) {
                     current.set(new LiveModel(next, new FreshUsers(capacity), new ConcurrentHashMap<>()));
                 }
+                installListener.installed(next, System.nanoTime() - started);
                 return Optional.empty();
             }
             long cutoff = next.header().createdAt().toEpochMilli() - REBASE_MARGIN.toMillis();
@@ -150,6 +131,7 @@ public final class LiveModels {
                 }
                 current.set(new LiveModel(next, rebased, erased));
             }
+            installListener.installed(next, System.nanoTime() - started);
             return Optional.of(old.model());
         }
     }
@@ -160,14 +142,6 @@ public final class LiveModels {
      * Histories of ids nobody has (a user erased meanwhile) remove the user instead.
      */
     public int foldIn(List<UserHistory> histories) {
-        int folded = fold(histories);
-        if (folded > 0) {
-            listener.foldedIn(folded);
-        }
-        return folded;
-    }
-
-    private int fold(List<UserHistory> histories) {
         LiveModel live = current.get();
         if (live == null || histories.isEmpty()) {
             return 0;
@@ -195,6 +169,9 @@ public final class LiveModels {
                 target.erased().remove(user.userId()); // written again after an erasure: a new user
                 target.fresh().put(target == live ? user : refold(target.model(), user, scratch));
             }
+        }
+        if (!made.isEmpty()) {
+            foldInListener.accept(made.size());
         }
         return made.size();
     }

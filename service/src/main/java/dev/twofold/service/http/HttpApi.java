@@ -88,12 +88,11 @@ public final class HttpApi {
     }
 
     /**
-     * As above, and {@code extensions} adds to the server's configuration before it starts (the
-     * operator routes, request ids and the request log of {@code dev.twofold.service.ops}).
+     * @param extensions adds to the server's configuration before it starts (the operator routes,
+     *                   request ids and the request log of {@code dev.twofold.service.ops})
      */
     public HttpApi(Supplier<LiveModel> live, Ranker ranker, Intake intake, ModelControl models, AccessPolicy access,
-            ServingObserver observer, Consumer<JavalinConfig> extensions, Duration stopTimeout,
-            int retryAfterSeconds) {
+            ServingObserver observer, Consumer<JavalinConfig> extensions, Duration stopTimeout, int retryAfterSeconds) {
         this.live = live;
         this.ranker = ranker;
         this.intake = intake;

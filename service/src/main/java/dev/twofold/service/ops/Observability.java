@@ -3,16 +3,13 @@ package dev.twofold.service.ops;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.registry.ModelRegistry;
-import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.http.ProblemType;
 import dev.twofold.service.http.ServingObserver;
-import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Strategy;
 import io.javalin.config.JavalinConfig;
 import io.javalin.http.Context;
 import io.javalin.router.Endpoint;
 import java.time.Clock;
-import java.util.Optional;
 import java.util.concurrent.Executors;
 import java.util.concurrent.RejectedExecutionException;
 import java.util.concurrent.ScheduledExecutorService;
@@ -24,12 +21,11 @@ import org.slf4j.LoggerFactory;
  * The operator's view of one service process: its metrics, request log, retrain history and
  * dashboard, and the one place they are wired into the HTTP server.
  *
- * <p>Use (the {@link dev.twofold.service.Service} does it): construct, hand {@link #configure} to
- * the Javalin configuration of the API (it adds a request-id step before every request, the
- * request line and metrics after it, and the routes {@code GET /metrics}, {@code GET /dashboard},
- * {@code GET /dashboard/data} and the dashboard's assets), give the live model its
- * {@link #liveModelListener()} and the API its {@link #observer()}, {@link #start()} the
- * background readings, {@link #close()} (safe twice).
+ * <p>Use: construct, hand {@link #configure} to the Javalin configuration of the API (it adds a
+ * request-id step before every request, the request line and metrics after it, and the routes
+ * {@code GET /metrics}, {@code GET /dashboard}, {@code GET /dashboard/data} and the dashboard's
+ * assets), tell it of every model swap ({@link #modelInstalled}), {@link #start()} the background
+ * readings, {@link #close()} (safe twice).
  *
  * <p>With a database it also reports the connection pool and reads the model registry for the
  * retrain history; without one those parts stay empty.
@@ -82,21 +78,6 @@ public final class Observability implements AutoCloseable {
             @Override
             public void recommended(Strategy strategy, boolean folded) {
                 metrics.recommended(strategy.wireName());
-            }
-        };
-    }
-
-    /** What the live model tells of each install (a swap, once a model is loaded) and each fold-in. */
-    public LiveModels.Listener liveModelListener() {
-        return new LiveModels.Listener() {
-            @Override
-            public void installed(ServingModel next, Optional<ServingModel> replaced, long nanos) {
-                modelInstalled(next.header(), nanos);
-            }
-
-            @Override
-            public void foldedIn(int users) {
-                metrics.foldIn(users);
             }
         };
     }

@@ -16,6 +16,7 @@ import dev.twofold.service.testing.ApiClient;
 import dev.twofold.service.testing.KitchenModel;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
+import java.time.Clock;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.List;
@@ -32,6 +33,7 @@ class RequestLogTest {
 
     private static final String SECRET = "tfk_live_4c1d8e0b9f2a7c3d5e6f708192a3b4c5";
 
+    private Observability ops;
     private Service service;
     private ApiClient api;
     private ListAppender<ILoggingEvent> lines;
@@ -46,8 +48,9 @@ class RequestLogTest {
         lines = new ListAppender<>();
         lines.start();
         requestLogger.addAppender(lines);
+        ops = new Observability(OpsSettings.defaults(), null, Clock.systemUTC());
         service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10), Duration.ofSeconds(1)),
-                AccessPolicy.OPEN, null, OpsSettings.defaults());
+                AccessPolicy.OPEN, ops);
         api = new ApiClient(service.start());
         service.install(KitchenModel.build());
     }
@@ -55,6 +58,7 @@ class RequestLogTest {
     @AfterEach
     void stop() {
         service.close();
+        ops.close();
         requestLogger.detachAppender(lines);
         requestLogger.setLevel(levelBefore);
     }

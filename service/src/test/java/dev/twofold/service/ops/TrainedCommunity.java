@@ -11,6 +11,7 @@ import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
 import dev.twofold.service.http.AccessPolicy;
+import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.testing.ApiClient;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.planted.DemoDataCommand;
@@ -25,6 +26,7 @@ import java.io.UncheckedIOException;
 import java.nio.file.Files;
 import java.net.http.HttpResponse;
 import java.nio.file.Path;
+import java.time.Clock;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -58,6 +60,7 @@ final class TrainedCommunity implements AutoCloseable {
     static final Duration WAIT = Duration.ofSeconds(30);
 
     final Database database;
+    final Observability ops;
     final Service service;
     final ApiClient api;
     final long firstModel;
@@ -68,9 +71,10 @@ final class TrainedCommunity implements AutoCloseable {
     final List<String> recipes;
     private int followers;
 
-    private TrainedCommunity(Database database, Service service, ApiClient api, long[] models, List<String> cooks,
-            List<String> recipes) {
+    private TrainedCommunity(Database database, Observability ops, Service service, ApiClient api, long[] models,
+            List<String> cooks, List<String> recipes) {
         this.database = database;
+        this.ops = ops;
         this.service = service;
         this.api = api;
         this.firstModel = models[0];
@@ -87,6 +91,7 @@ final class TrainedCommunity implements AutoCloseable {
         assertEquals(0, demo.execute("--out", dir.toString(), "--users", Integer.toString(COOKS), "--items",
                 Integer.toString(RECIPES), "--seed", Long.toString(SEED)));
         Database database = TestDatabases.fresh();
+        Observability ops = null;
         Service service = null;
         try {
             new Importer(database, RatingScale.DEFAULT).importFiles(dir.resolve("ratings.csv"), dir.resolve("trust.csv"));
@@ -97,8 +102,9 @@ final class TrainedCommunity implements AutoCloseable {
             models[0] = first.modelId();
 
             // the service loads the active model as it starts and follows promotions from then on
+            ops = new Observability(settings, database, Clock.systemUTC());
             service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10), Duration.ofSeconds(1)),
-                    AccessPolicy.OPEN, database, settings);
+                    AccessPolicy.OPEN, database, new ModelLoader(database), ops);
             ApiClient api = new ApiClient(service.start());
             awaitServing(service, models[0]);
 
@@ -122,11 +128,14 @@ final class TrainedCommunity implements AutoCloseable {
             ModelHeader broken = new ModelRegistry(database).list().get(0);
             assertEquals(ModelRegistry.FAILED, broken.status(), "the broken retrain left no failed version");
             models[3] = broken.id();
-            return new TrainedCommunity(database, service, api, models, column(dir.resolve("ratings.csv"), 0),
+            return new TrainedCommunity(database, ops, service, api, models, column(dir.resolve("ratings.csv"), 0),
                     column(dir.resolve("ratings.csv"), 1));
         } catch (RuntimeException | AssertionError e) {
             if (service != null) {
                 service.close();
+            }
+            if (ops != null) {
+                ops.close();
             }
             database.close();
             throw e;
@@ -215,7 +224,11 @@ final class TrainedCommunity implements AutoCloseable {
         try {
             service.close();
         } finally {
-            database.close();
+            try {
+                ops.close();
+            } finally {
+                database.close();
+            }
         }
     }
 }

@@ -10,6 +10,7 @@ import dev.twofold.db.registry.RetrainLock;
 import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Figures;
 import dev.twofold.trainer.evaluate.SegmentFigures;
+import dev.twofold.trainer.fit.EpochReport;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.sweep.SweepPoint;
 
@@ -27,7 +28,8 @@ import dev.twofold.trainer.sweep.SweepPoint;
  *                 "policy": "auto", "rmseTolerance": 0.005, "precisionTolerance": 0.03,
  *                 "gatePassed": true, "verdict": "...",
  *                 "decision": "promoted", "candidate" or "rejected", "reason": "..."},
- *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0},
+ *  "training": {"epochs": 20, "objective": 1234.5, "failedSolves": 0,
+ *               "history": [{"epoch": 1, "objective": 2345.6, "failedSolves": 0}, ...]},
  *  "tuning": null or {"why": "...", "chosen": {"rank", "lambda", "epochs"},
  *             "sweep": [{"rank", "lambda", "validationRmse", "precision", "bestEpoch", "epochsRun", "seconds"}]}}
  * FIGURES = {"rows", "rmse", "mae", "rankedUsers", "precision", "recall", "ndcg", "map", "coverage"}
@@ -96,8 +98,7 @@ final class MetricsJson {
         root.put("modelId", report.modelId());
         root.put("reason", report.reason());
         optionalId(root, "liveModelId", report.liveModelId());
-        optionalId(root, "activeModelId", report.decision() == Decision.PROMOTED ? Long.valueOf(report.modelId())
-                : report.liveModelId());
+        optionalId(root, "activeModelId", report.activeModelId());
         ObjectNode gate = root.putObject("gate");
         gate.put("policy", report.publish().policy().label());
         gate.put("rmseTolerance", report.publish().gate().rmseTolerance());
@@ -239,6 +240,13 @@ final class MetricsJson {
         number(training, "objective", report.history().isEmpty() ? Double.NaN
                 : report.history().get(report.history().size() - 1).objective());
         training.put("failedSolves", report.history().stream().mapToInt(e -> e.failedSolves()).sum());
+        ArrayNode epochs = training.putArray("history");
+        for (EpochReport e : report.history()) {
+            ObjectNode epoch = epochs.addObject();
+            epoch.put("epoch", e.epoch());
+            number(epoch, "objective", e.objective());
+            epoch.put("failedSolves", e.failedSolves());
+        }
         return training;
     }
 

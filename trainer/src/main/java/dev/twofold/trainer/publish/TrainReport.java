@@ -25,6 +25,7 @@ import java.util.Map;
  * @param model       held-out figures of the model
  * @param baselines   held-out figures of the baselines
  * @param liveModelId the model that was live when the candidate was judged, or null when there was none
+ * @param activeModelId the model active when the run ended (this one when promoted), or null
  * @param live        that model's figures on the same held-out rows, or null
  * @param verdict     the quality gate's finding against the live model
  * @param notes       caveats about the comparison (for example a live model trained on another split)
@@ -45,6 +46,7 @@ public record TrainReport(
         SegmentFigures model,
         BaselineFigures baselines,
         Long liveModelId,
+        Long activeModelId,
         SegmentFigures live,
         QualityGate.Verdict verdict,
         List<String> notes,

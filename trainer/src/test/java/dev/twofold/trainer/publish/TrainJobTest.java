@@ -25,7 +25,10 @@ import dev.twofold.trainer.fit.Coupling;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.progress.Progress;
+import dev.twofold.trainer.sweep.SweepCommand;
 import dev.twofold.trainer.sweep.SweepPoint;
+import dev.twofold.trainer.sweep.SweepResult;
 import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.nio.file.Path;
@@ -163,6 +166,19 @@ class TrainJobTest {
     }
 
     @Test
+    @Order(5)
+    void the_sweep_command_sweeps_the_snapshot_on_the_same_validation_split() {
+        TrainSettings sweep = QUICK.withPatience(1).withSweep(new int[] {2, 4}, new float[] {0.04f});
+        SweepResult result = SweepCommand.run(new SnapshotReader(database).read(), sweep, Progress.silent());
+        assertEquals(2, result.points().size());
+        HeldOutData data = HeldOutData.of(new SnapshotReader(database).read(), sweep);
+        HeldOutData.Validation v = data.validation(sweep);
+        assertTrue(v.rows().nnz() > 0 && v.fit().ratings().nnz() + v.rows().nnz() == data.train().nnz(),
+                "the validation rows come out of the training rows only");
+        assertTrue(result.csv().lines().count() == 3 && result.svg().startsWith("<svg"));
+    }
+
+    @Test
     @Order(3)
     void promote_always_overrides_the_gate_and_rollback_returns_to_the_previous_model() {
         TrainReport report = new TrainJob(database, WORSE, PublishSettings.defaults().withPolicy(PromotionPolicy.ALWAYS)).run();
@@ -183,6 +199,7 @@ class TrainJobTest {
         TrainReport report = new TrainJob(database, QUICK).run();
         assertEquals(Decision.PROMOTED, report.decision(), report.reason());
         assertEquals(worseLive, report.liveModelId());
+        assertEquals(report.modelId(), report.activeModelId());
         assertTrue(report.reason().startsWith("quality gate passed: held-out RMSE"), report.reason());
         ModelRegistry registry = new ModelRegistry(database);
         assertEquals(report.modelId(), registry.active().orElseThrow().id());

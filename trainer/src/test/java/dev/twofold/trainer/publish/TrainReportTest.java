@@ -38,7 +38,7 @@ class TrainReportTest {
                 new TrainReport.Counts(50, 20, 400, 90, 320, 80, 7), phases, new SegmentFigures(FULL, FULL),
                 new BaselineFigures(new SegmentFigures(ERRORS, ERRORS), new SegmentFigures(FULL, FULL),
                         new SegmentFigures(RANKING, RANKING), null),
-                live, live == null ? null : new SegmentFigures(LIVE, LIVE),
+                live, decision == Decision.PROMOTED ? Long.valueOf(3) : live, live == null ? null : new SegmentFigures(LIVE, LIVE),
                 new QualityGate.Verdict(live == null, live == null ? "no model is live" : "held-out RMSE is above"),
                 List.of(), List.of(1L), List.of(), List.of(new EpochReport(1, 123.4, Double.NaN, 0)), null, null);
     }
@@ -49,8 +49,8 @@ class TrainReportTest {
                 new SweepPoint(8, 0.02f, 0.88, 0.06, 12, 14, 2.5)), 10);
         TrainSettings chosen = r.settings().withFit(r.settings().fit().withRank(8).withEpochs(12));
         return new TrainReport(r.modelId(), r.decision(), r.reason(), chosen, r.publish(), r.counts(), r.phases(),
-                r.model(), r.baselines(), r.liveModelId(), r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(),
-                r.history(), "no --rank given: " + sweep.why(), sweep);
+                r.model(), r.baselines(), r.liveModelId(), r.activeModelId(), r.live(), r.verdict(), r.notes(), r.recovered(),
+                r.deleted(), r.history(), "no --rank given: " + sweep.why(), sweep);
     }
 
     @Test
