@@ -76,9 +76,10 @@ public final class ServeCommand implements Callable<Integer> {
             awaitStop();
             LOG.info("stopping: finishing requests in flight (up to {} ms)", settings.stopTimeout().toMillis());
         } finally {
+            // log before letting a waiting shutdown hook return: the JVM may halt right after it
+            LOG.info("stopped");
             stopped.countDown();
         }
-        LOG.info("stopped");
         return 0;
     }
 

@@ -102,6 +102,7 @@ public final class Service implements AutoCloseable {
         this.ops = ops == null ? new Observability(OpsSettings.defaults(), null, Clock.systemUTC()) : ops;
         this.live = new LiveModels(settings.freshUsers());
         this.live.onInstall((model, swapNanos) -> this.ops.modelInstalled(model.header(), swapNanos));
+        this.live.onFoldIn(this.ops.metrics()::foldIn);
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
         Intake intake = database == null ? null : new Intake(database, live, origin());
         this.listener = database == null ? null : new DatabaseNotifications(database,

@@ -12,6 +12,7 @@ import java.util.Optional;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
+import java.util.function.IntConsumer;
 
 /**
  * The current {@link LiveModel}, replaced in one atomic step, and the two ways it changes:
@@ -52,6 +53,13 @@ public final class LiveModels {
     /** Sets who is told of every swap (one listener; the service's operator view). */
     public void onInstall(InstallListener listener) {
         installListener = listener == null ? (model, nanos) -> { } : listener;
+    }
+
+    private volatile IntConsumer foldInListener = users -> { };
+
+    /** Sets who is told how many users each {@link #foldIn} folded in (one listener; the service's operator view). */
+    public void onFoldIn(IntConsumer listener) {
+        foldInListener = listener == null ? users -> { } : listener;
     }
 
     /** @param capacity most users kept folded in per model */
@@ -161,6 +169,9 @@ public final class LiveModels {
                 target.erased().remove(user.userId()); // written again after an erasure: a new user
                 target.fresh().put(target == live ? user : refold(target.model(), user, scratch));
             }
+        }
+        if (!made.isEmpty()) {
+            foldInListener.accept(made.size());
         }
         return made.size();
     }

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import static org.junit.jupiter.api.Assertions.fail;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.service.testing.ApiClient;
 import java.io.IOException;
 import java.nio.file.Files;
@@ -157,7 +158,8 @@ class DashboardBrowserTest {
             assertTrue(legend.contains(entry), entry + " not in the legend: " + legend);
         }
         String strategies = text("#chart-strategies .summary");
-        assertTrue(strategies.startsWith("Share over the window: model ") && strategies.contains("popular"), strategies);
+        assertTrue(strategies.startsWith("Share over the window: model ") && strategies.contains("trust")
+                && strategies.contains("popular"), strategies);
     }
 
     @Test
@@ -179,7 +181,8 @@ class DashboardBrowserTest {
         assertTrue(rows.get(0).startsWith("v" + community.failedModel + " | ▲ failed"), rows.get(0));
         assertTrue(rows.get(1).startsWith("v" + community.liveModel + " ◆ live | ● promoted"), rows.get(1));
         assertTrue(rows.get(2).startsWith("v" + community.rejectedModel + " | ✖ rejected"), rows.get(2));
-        assertTrue(rows.get(2).contains("quality gate failed"), rows.get(2));
+        String reason = new ModelRegistry(community.database).find(community.rejectedModel).orElseThrow().reason();
+        assertTrue(rows.get(2).endsWith(" | " + reason), rows.get(2) + " does not end with the reason " + reason);
         assertTrue(rows.get(3).startsWith("v" + community.firstModel + " | ● promoted"), rows.get(3));
     }
 

@@ -77,7 +77,7 @@ class MetricsEndpointTest {
 
     @Test
     void requests_are_counted_and_timed_per_route_template_and_status_never_per_raw_path() {
-        assertEquals(sent.modelRecommendations() + sent.popularRecommendations(),
+        assertEquals(sent.servedRecommendations(),
                 metrics.value(REQUESTS + "_count", "method", "GET", "route", RECOMMENDATIONS, "status", "200"));
         assertEquals(sent.badRequests(),
                 metrics.value(REQUESTS + "_count", "method", "GET", "route", RECOMMENDATIONS, "status", "400"));
@@ -116,6 +116,13 @@ class MetricsEndpointTest {
         assertEquals(sent.modelRecommendations(), metrics.value("twofold_recommendations_total", "strategy", "model"));
         assertEquals(sent.popularRecommendations(), metrics.value("twofold_recommendations_total",
                 "strategy", "popular"));
+        assertEquals(sent.trustRecommendations(), metrics.value("twofold_recommendations_total", "strategy", "trust"));
+    }
+
+    @Test
+    void users_folded_in_after_a_write_are_counted() {
+        assertTrue(sent.foldedUsers() > 0, "the write folded nobody in");
+        assertEquals(sent.foldedUsers(), metrics.value("twofold_fold_ins_total"));
     }
 
     @Test
