@@ -5,9 +5,9 @@ import dev.twofold.db.TwofoldException;
 import dev.twofold.db.access.KeysCommand;
 import dev.twofold.db.ingest.ImportCommand;
 import dev.twofold.db.ingest.UsersCommand;
-import dev.twofold.service.ModelsCommand;
 import dev.twofold.service.ServeCommand;
 import dev.twofold.trainer.planted.DemoDataCommand;
+import dev.twofold.trainer.publish.ModelsCommand;
 import dev.twofold.trainer.publish.TrainCommand;
 import dev.twofold.trainer.sweep.SweepCommand;
 import java.io.PrintWriter;
@@ -50,11 +50,6 @@ public final class Twofold {
 
     static CommandLine commandLine() {
         CommandLine cli = new CommandLine(new Twofold());
-        for (NotBuilt.Spec spec : NotBuilt.SPECS) {
-            CommandLine sub = new CommandLine(new NotBuilt(spec));
-            sub.getCommandSpec().usageMessage().description(spec.purpose() + " (not built yet)");
-            cli.addSubcommand(spec.name(), sub);
-        }
         cli.setExecutionExceptionHandler(Twofold::onFailure);
         return cli;
     }

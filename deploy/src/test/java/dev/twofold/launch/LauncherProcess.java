@@ -45,8 +45,17 @@ final class LauncherProcess implements AutoCloseable {
 
     /** Starts {@code twofold args...} with the current environment minus TWOFOLD_*, plus {@code env}. */
     static LauncherProcess start(Map<String, String> env, Path workDir, String... args) throws IOException {
+        return start(List.of(), env, workDir, args);
+    }
+
+    /** As {@link #start(Map, Path, String...)} with JVM options before {@code -jar} (e.g. {@code -Dtwofold.pauseAt=fit}). */
+    static LauncherProcess start(List<String> jvmOptions, Map<String, String> env, Path workDir, String... args)
+            throws IOException {
         List<String> command = new ArrayList<>();
         command.add(ProcessHandle.current().info().command().orElse("java"));
+        command.add("--add-modules"); // as deploy/twofold runs it: the SIMD scoring kernel
+        command.add("jdk.incubator.vector");
+        command.addAll(jvmOptions);
         command.add("-jar");
         command.add(jar().toString());
         command.addAll(List.of(args));
@@ -72,6 +81,55 @@ final class LauncherProcess implements AutoCloseable {
     }
 
     int exitCode() {
+        return process.exitValue();
+    }
+
+    long pid() {
+        return process.pid();
+    }
+
+    boolean isAlive() {
+        return process.isAlive();
+    }
+
+    /** Waits for the process to end by itself and returns its exit code. */
+    int await() throws Exception {
+        if (!process.waitFor(COMMAND_TIMEOUT.toSeconds(), TimeUnit.SECONDS)) {
+            throw new AssertionError("did not finish in " + COMMAND_TIMEOUT + "\n" + describe());
+        }
+        return process.exitValue();
+    }
+
+    /** Waits until standard error contains {@code text}; fails if the process ends first or the timeout passes. */
+    void awaitStderr(String text) throws Exception {
+        long deadline = System.nanoTime() + READY_TIMEOUT.toNanos();
+        while (System.nanoTime() < deadline) {
+            if (stderr().contains(text)) {
+                return;
+            }
+            if (!process.isAlive()) {
+                throw new AssertionError("the process ended before writing '" + text + "'\n" + describe());
+            }
+            Thread.sleep(50);
+        }
+        throw new AssertionError("'" + text + "' not written within " + READY_TIMEOUT + "\n" + describe());
+    }
+
+    /** Writes a line to the process's standard input (resumes a process paused at a test pause point). */
+    void resume() throws IOException {
+        process.getOutputStream().write('\n');
+        process.getOutputStream().flush();
+    }
+
+    /** What a process killed by SIGKILL exits with: 128 + 9. */
+    static final int EXIT_AFTER_SIGKILL = 137;
+
+    /** kill -9: no shutdown hook, no finally block, sockets closed by the kernel. Returns the exit code. */
+    int killHard() throws Exception {
+        process.destroyForcibly();
+        if (!process.waitFor(30, TimeUnit.SECONDS)) {
+            throw new AssertionError("still alive 30 s after SIGKILL");
+        }
         return process.exitValue();
     }
 

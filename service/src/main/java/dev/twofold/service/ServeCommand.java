@@ -3,6 +3,10 @@ package dev.twofold.service;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
 import dev.twofold.service.http.AccessPolicy;
+import dev.twofold.service.model.ModelLoader;
+import dev.twofold.service.ops.Observability;
+import dev.twofold.service.ops.OpsSettings;
+import java.time.Clock;
 import java.util.Map;
 import java.util.concurrent.Callable;
 import java.util.concurrent.CountDownLatch;
@@ -59,7 +63,8 @@ public final class ServeCommand implements Callable<Integer> {
         ServiceSettings settings = ServiceSettings.fromEnvironment(env);
         DatabaseSettings databaseSettings = DatabaseSettings.fromEnvironment(env);
         try (Database database = Database.open(databaseSettings);
-                Service service = new Service(settings, AccessPolicy.OPEN, database)) {
+                Observability ops = new Observability(OpsSettings.defaults(), database, Clock.systemUTC());
+                Service service = new Service(settings, AccessPolicy.OPEN, database, new ModelLoader(database), ops)) {
             Thread hook = new Thread(this::stopAndWait, "twofold-serve-stop");
             if (stopOnSignal) {
                 Runtime.getRuntime().addShutdownHook(hook);
@@ -71,9 +76,10 @@ public final class ServeCommand implements Callable<Integer> {
             awaitStop();
             LOG.info("stopping: finishing requests in flight (up to {} ms)", settings.stopTimeout().toMillis());
         } finally {
+            // log before letting a waiting shutdown hook return: the JVM may halt right after it
+            LOG.info("stopped");
             stopped.countDown();
         }
-        LOG.info("stopped");
         return 0;
     }
 

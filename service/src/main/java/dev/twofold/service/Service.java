@@ -7,12 +7,14 @@ import dev.twofold.service.fresh.LiveModel;
 import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.HttpApi;
-import dev.twofold.service.http.ServingObserver;
 import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.model.ModelSource;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Ranker;
 import java.util.List;
+import dev.twofold.service.ops.Observability;
+import dev.twofold.service.ops.OpsSettings;
+import java.time.Clock;
 import java.util.Optional;
 import java.util.UUID;
 import java.util.concurrent.ExecutorService;
@@ -57,6 +59,8 @@ public final class Service implements AutoCloseable {
         t.setDaemon(true);
         return t;
     });
+    private final Observability ops;
+    private final boolean ownsOps;
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
@@ -66,25 +70,39 @@ public final class Service implements AutoCloseable {
         this(settings, AccessPolicy.OPEN);
     }
 
-    /** A service without a database: models are {@link #install}ed by the caller. */
+    /** A service without a database, with its own operator view: models are {@link #install}ed by the caller. */
     public Service(ServiceSettings settings, AccessPolicy access) {
-        this(settings, access, null, null, ServingObserver.NONE);
+        this(settings, access, null, null, null);
     }
 
-    /** A service on a database, following its active model. */
+    /** A service on a database, following its active model, with its own operator view (no retrain history). */
     public Service(ServiceSettings settings, AccessPolicy access, Database database) {
-        this(settings, access, database, database == null ? null : new ModelLoader(database), ServingObserver.NONE);
+        this(settings, access, database, database == null ? null : new ModelLoader(database), null);
+    }
+
+    /**
+     * A service without a database whose operator view the caller owns.
+     *
+     * @param ops the operator's view (metrics, request log, dashboard); the caller closes it after the service
+     */
+    public Service(ServiceSettings settings, AccessPolicy access, Observability ops) {
+        this(settings, access, null, null, ops);
     }
 
     /**
      * @param database where data is written and models are administered, or null for none
      * @param models   where the active model is found and loaded, or null to install models by hand
-     * @param observer told of every request and recommendation
+     * @param ops      the operator's view (metrics, request log, dashboard), which the caller closes
+     *                 after the service; null for one of the service's own, without retrain history
      */
     public Service(ServiceSettings settings, AccessPolicy access, Database database, ModelSource models,
-            ServingObserver observer) {
+            Observability ops) {
         this.settings = settings;
+        this.ownsOps = ops == null;
+        this.ops = ops == null ? new Observability(OpsSettings.defaults(), null, Clock.systemUTC()) : ops;
         this.live = new LiveModels(settings.freshUsers());
+        this.live.onInstall((model, swapNanos) -> this.ops.modelInstalled(model.header(), swapNanos));
+        this.live.onFoldIn(this.ops.metrics()::foldIn);
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
         Intake intake = database == null ? null : new Intake(database, live, origin());
         this.listener = database == null ? null : new DatabaseNotifications(database,
@@ -92,8 +110,8 @@ public final class Service implements AutoCloseable {
                 settings.modelPollInterval());
         RegistryControl control = database == null ? null
                 : new RegistryControl(new ModelRegistry(database), watcher == null ? () -> { } : watcher::checkSoon);
-        this.http = new HttpApi(live::current, ranker, intake, control, access, observer, settings.stopTimeout(),
-                settings.retryAfterSeconds());
+        this.http = new HttpApi(live::current, ranker, intake, control, access, this.ops.observer(), this.ops::configure,
+                settings.stopTimeout(), settings.retryAfterSeconds());
     }
 
     /**
@@ -134,6 +152,7 @@ public final class Service implements AutoCloseable {
             if (listener != null) {
                 listener.start();
             }
+            ops.start();
             return port;
         }
     }
@@ -206,6 +225,9 @@ public final class Service implements AutoCloseable {
             }
             if (started) {
                 http.stop();
+            }
+            if (ownsOps) {
+                ops.close();
             }
         }
     }

@@ -2,6 +2,7 @@ package dev.twofold.db.connect;
 
 import com.zaxxer.hikari.HikariConfig;
 import com.zaxxer.hikari.HikariDataSource;
+import com.zaxxer.hikari.metrics.MetricsTrackerFactory;
 import com.zaxxer.hikari.pool.HikariPool;
 import dev.twofold.db.DatabaseFailureException;
 import dev.twofold.db.DatabaseUnavailableException;
@@ -118,6 +119,17 @@ public final class Database implements AutoCloseable {
 
     public boolean embedded() {
         return server != null;
+    }
+
+    /**
+     * Reports the pool's figures (connections in use, idle and awaited, borrow and usage times,
+     * time-outs) to {@code factory}, for example HikariCP's Micrometer tracker. Set at most once per
+     * database; the pool name ({@code twofold-<pid>-<n>}) tells pools apart.
+     *
+     * @throws IllegalStateException when a tracker is already set
+     */
+    public void trackPool(MetricsTrackerFactory factory) {
+        pool.setMetricsTrackerFactory(factory);
     }
 
     /** Registers an action run once by {@link #close()} after the pool is closed (later registrations run first). */

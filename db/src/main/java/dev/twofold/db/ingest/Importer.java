@@ -4,8 +4,10 @@ import dev.twofold.db.BadInputException;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.internal.BinaryCopyReader;
 import dev.twofold.db.internal.BinaryCopyWriter;
+import dev.twofold.db.internal.PausePoint;
 import dev.twofold.db.internal.SqlFailures;
 import java.io.BufferedInputStream;
+import java.io.FilterInputStream;
 import java.io.IOException;
 import java.io.InputStream;
 import java.nio.file.Files;
@@ -63,20 +65,42 @@ public final class Importer {
     private static final List<String> TRUST_HEADER = List.of("truster", "trustee");
     private static final List<String> TRUST_HEADER_WEIGHTED = List.of("truster", "trustee", "weight");
 
+    /** Rows between two progress reports while parsing or merging. */
+    static final int PROGRESS_EVERY_ROWS = 1 << 16;
+
     private final Database database;
     private final RatingScale scale;
+    private final ImportProgress progress;
 
     public Importer(Database database, RatingScale scale) {
+        this(database, scale, ImportProgress.NONE);
+    }
+
+    /** @param progress told how far the import has come (bytes read per file, rows merged per table) */
+    public Importer(Database database, RatingScale scale, ImportProgress progress) {
         this.database = database;
         this.scale = scale;
+        this.progress = progress;
     }
 
     /**
+     * Merges the files into what is stored ({@link ImportMode#APPEND}).
+     *
      * @param ratings ratings CSV ({@code user,item,rating[,time]}) or null
      * @param trust   trust CSV ({@code truster,trustee[,weight]}) or null
      * @throws BadInputException when a file is missing or any row is invalid; nothing is written
      */
     public ImportReport importFiles(Path ratings, Path trust) {
+        return importFiles(ratings, trust, ImportMode.APPEND);
+    }
+
+    /**
+     * @param ratings ratings CSV ({@code user,item,rating[,time]}) or null
+     * @param trust   trust CSV ({@code truster,trustee[,weight]}) or null
+     * @param mode    append (merge) or replace (the given kinds of data become exactly the files' rows)
+     * @throws BadInputException when a file is missing or any row is invalid; nothing is written
+     */
+    public ImportReport importFiles(Path ratings, Path trust, ImportMode mode) {
         if (ratings == null && trust == null) {
             throw new IllegalArgumentException("give a ratings file, a trust file or both");
         }
@@ -107,7 +131,8 @@ public final class Importer {
         try (Connection c = database.dataSource().getConnection()) {
             c.setAutoCommit(false);
             try {
-                ImportReport report = write(c, users, items, r, t, phases);
+                ImportReport report = write(c, users, items, ratings == null ? null : r, trust == null ? null : t, mode,
+                        phases);
                 c.commit();
                 LOG.debug("import of {}: {}", what, phases);
                 return report;
@@ -124,8 +149,10 @@ public final class Importer {
 
     // ---- writing ----------------------------------------------------------------------------------
 
-    private ImportReport write(Connection c, IdDictionary users, IdDictionary items, RatingRows r, TrustRows t, Phases phases)
-            throws SQLException, IOException {
+    /** {@code r} or {@code t} is null when no file of that kind was given. */
+    private ImportReport write(Connection c, IdDictionary users, IdDictionary items, RatingRows r, TrustRows t, ImportMode mode,
+            Phases phases) throws SQLException, IOException {
+        boolean replace = mode == ImportMode.REPLACE;
         CopyManager copy = c.unwrap(PGConnection.class).getCopyAPI();
         try (Statement s = c.createStatement()) {
             s.execute("set local work_mem = '" + WORK_MEM + "'");
@@ -137,11 +164,56 @@ public final class Importer {
             // Other writers wait until we commit; readers (snapshots, the service) go on.
             s.execute("lock table ratings, trust in share row exclusive mode");
         }
-        long ratingsWritten = r.n == 0 ? 0 : mergeRatings(c, copy, users, items, r);
+        Merged ratings = Merged.NOTHING;
+        if (r != null && (r.n > 0 || replace)) {
+            progress.start("writing ratings", r.n);
+            ratings = mergeRatings(c, copy, users, items, r, replace);
+            progress.finish(ratings.describe("ratings"));
+        }
         phases.done("ratings");
-        long trustWritten = t.n == 0 ? 0 : mergeTrust(c, copy, users, t);
+        Merged trust = Merged.NOTHING;
+        if (t != null && (t.n > 0 || replace)) {
+            progress.start("writing trust edges", t.n);
+            trust = mergeTrust(c, copy, users, t, replace);
+            progress.finish(trust.describe("trust edges"));
+        }
         phases.done("trust");
-        return new ImportReport(r.n, ratingsWritten, t.n, trustWritten, newUsers, newItems, phases.total());
+        PausePoint.reached("import-write");
+        return new ImportReport(r == null ? 0 : r.n, ratings.written, t == null ? 0 : t.n, trust.written, newUsers, newItems,
+                phases.total(), mode, ratings.deleted, trust.deleted);
+    }
+
+    /** Rows a merge wrote (inserted or changed) and deleted. */
+    private record Merged(long written, long deleted) {
+        static final Merged NOTHING = new Merged(0, 0);
+
+        String describe(String what) {
+            return written + " " + what + " written" + (deleted > 0 ? ", " + deleted + " deleted" : "");
+        }
+    }
+
+    /** Deletes the given keys (user_idx << 32 | item_idx, or truster/trustee) from a table through a staged key list. */
+    private static long deleteKeys(Connection c, CopyManager copy, String table, String first, String second, long[] keys,
+            int n) throws SQLException {
+        if (n == 0) {
+            return 0;
+        }
+        String stage = "stage_" + table + "_deletes";
+        try (Statement s = c.createStatement()) {
+            s.execute("create temp table " + stage + " (" + first + " integer not null, " + second + " integer not null)"
+                    + " on commit drop");
+        }
+        BinaryCopyWriter out = new BinaryCopyWriter(copy.copyIn("copy " + stage + " (" + first + ", " + second
+                + ") from stdin (format binary)"));
+        for (int i = 0; i < n; i++) {
+            out.row(2).int4((int) (keys[i] >>> 32)).int4((int) keys[i]);
+        }
+        out.finish();
+        try (Statement s = c.createStatement()) {
+            s.execute("analyze " + stage);
+            return s.executeUpdate("delete from " + table + " x using " + stage + " d where x." + first + " = d." + first
+                    + " and x." + second + " = d." + second);
+        }
     }
 
     /** Inserts the ids the table does not know yet and fills {@code ids.idx}; returns how many were new. */
@@ -182,8 +254,8 @@ public final class Importer {
         return inserted;
     }
 
-    private static long mergeRatings(Connection c, CopyManager copy, IdDictionary users, IdDictionary items, RatingRows r)
-            throws SQLException, IOException {
+    private Merged mergeRatings(Connection c, CopyManager copy, IdDictionary users, IdDictionary items, RatingRows r,
+            boolean replace) throws SQLException, IOException {
         // Incoming: one row per (user, item) by the sequential rule, sorted by key.
         long[] keys = new long[r.n];
         for (int i = 0; i < r.n; i++) {
@@ -211,8 +283,10 @@ public final class Importer {
             p = q;
         }
 
-        // Stored rows of the users in the file, sorted by key.
-        Stored stored = readStoredRatings(c, copy, inKey, m);
+        // Stored rows, sorted by key: of the users in the file (append), or all of them (replace).
+        Stored stored = replace ? readAllRatings(copy) : readStoredRatings(c, copy, inKey, m);
+        long[] deletes = new long[replace ? stored.n : 0];
+        int d = 0;
 
         try (Statement s = c.createStatement()) {
             s.execute("create temp table stage_rating_updates (user_idx integer not null, item_idx integer not null,"
@@ -228,16 +302,26 @@ public final class Importer {
             for (int i = 0; i < m; i++) {
                 long k = inKey[i];
                 while (j < stored.n && stored.key[j] < k) {
+                    if (replace) {
+                        deletes[d++] = stored.key[j];
+                    }
                     j++;
                 }
                 if (j < stored.n && stored.key[j] == k) {
                     boolean changes = inRating[i] != stored.rating[j] || inMicros[i] != stored.micros[j];
-                    if (changes && replaces(inMicros[i], stored.micros[j])) {
+                    if (changes && (replace || replaces(inMicros[i], stored.micros[j]))) {
                         updates[u++] = i;
                     }
+                    j++; // matched: neither kept for a later key nor deleted
                 } else {
                     ratingRow(fresh, k, inRating[i], inMicros[i]);
                 }
+                if ((i & (PROGRESS_EVERY_ROWS - 1)) == 0) {
+                    progress.advance(i);
+                }
+            }
+            for (; replace && j < stored.n; j++) {
+                deletes[d++] = stored.key[j];
             }
             fresh.finish();
         } catch (SQLException | RuntimeException e) {
@@ -258,7 +342,31 @@ public final class Importer {
                         + " from stage_rating_updates s where r.user_idx = s.user_idx and r.item_idx = s.item_idx");
             }
         }
-        return written;
+        long deleted = deleteKeys(c, copy, "ratings", "user_idx", "item_idx", deletes, d);
+        return new Merged(written, deleted);
+    }
+
+    /** Every stored rating, sorted by key. */
+    private static Stored readAllRatings(CopyManager copy) throws SQLException, IOException {
+        long[] key = new long[1024];
+        float[] rating = new float[1024];
+        long[] micros = new long[1024];
+        int n = 0;
+        try (BinaryCopyReader in = BinaryCopyReader.open(copy, "select user_idx, item_idx, rating, rated_at from ratings"
+                + " order by user_idx, item_idx")) {
+            while (in.nextRow()) {
+                if (n == key.length) {
+                    key = Arrays.copyOf(key, n * 2);
+                    rating = Arrays.copyOf(rating, n * 2);
+                    micros = Arrays.copyOf(micros, n * 2);
+                }
+                key[n] = key(in.int4(), in.int4());
+                rating[n] = in.float4();
+                micros[n] = in.timestamptzOr(FieldRules.NO_TIME);
+                n++;
+            }
+        }
+        return new Stored(n, key, rating, micros);
     }
 
     private static void ratingRow(BinaryCopyWriter out, long key, float rating, long micros) throws SQLException {
@@ -322,7 +430,8 @@ public final class Importer {
         }
     }
 
-    private static long mergeTrust(Connection c, CopyManager copy, IdDictionary users, TrustRows t) throws SQLException, IOException {
+    private Merged mergeTrust(Connection c, CopyManager copy, IdDictionary users, TrustRows t, boolean replace)
+            throws SQLException, IOException {
         long[] keys = new long[t.n];
         for (int i = 0; i < t.n; i++) {
             keys[i] = key(users.idx[t.truster[i]], users.idx[t.trustee[i]]);
@@ -342,12 +451,18 @@ public final class Importer {
             m++;
             p = q;
         }
-        stageTouchedUsers(c, copy, inKey, m, "touched_trusters");
+        String storedRows;
+        if (replace) {
+            storedRows = "select truster_idx, trustee_idx, weight from trust order by truster_idx, trustee_idx";
+        } else {
+            stageTouchedUsers(c, copy, inKey, m, "touched_trusters");
+            storedRows = "select x.truster_idx, x.trustee_idx, x.weight from trust x join touched_trusters t"
+                    + " on t.user_idx = x.truster_idx order by x.truster_idx, x.trustee_idx";
+        }
         long[] storedKey = new long[1024];
         float[] storedWeight = new float[1024];
         int n = 0;
-        try (BinaryCopyReader in = BinaryCopyReader.open(copy, "select x.truster_idx, x.trustee_idx, x.weight"
-                + " from trust x join touched_trusters t on t.user_idx = x.truster_idx order by x.truster_idx, x.trustee_idx")) {
+        try (BinaryCopyReader in = BinaryCopyReader.open(copy, storedRows)) {
             while (in.nextRow()) {
                 if (n == storedKey.length) {
                     storedKey = Arrays.copyOf(storedKey, n * 2);
@@ -365,19 +480,31 @@ public final class Importer {
         int[] updates = new int[Math.min(m, n)];
         int u = 0;
         int j = 0;
+        long[] deletes = new long[replace ? n : 0];
+        int d = 0;
         BinaryCopyWriter fresh = new BinaryCopyWriter(copy.copyIn("copy trust (truster_idx, trustee_idx, weight) from stdin (format binary)"));
         try {
             for (int i = 0; i < m; i++) {
                 while (j < n && storedKey[j] < inKey[i]) {
+                    if (replace) {
+                        deletes[d++] = storedKey[j];
+                    }
                     j++;
                 }
                 if (j < n && storedKey[j] == inKey[i]) {
                     if (storedWeight[j] != inWeight[i]) {
                         updates[u++] = i;
                     }
+                    j++; // matched: neither kept for a later key nor deleted
                 } else {
                     fresh.row(3).int4((int) (inKey[i] >>> 32)).int4((int) inKey[i]).float4(inWeight[i]);
                 }
+                if ((i & (PROGRESS_EVERY_ROWS - 1)) == 0) {
+                    progress.advance(i);
+                }
+            }
+            for (; replace && j < n; j++) {
+                deletes[d++] = storedKey[j];
             }
             fresh.finish();
         } catch (SQLException | RuntimeException e) {
@@ -398,7 +525,8 @@ public final class Importer {
                         + " where x.truster_idx = s.truster_idx and x.trustee_idx = s.trustee_idx");
             }
         }
-        return written;
+        long deleted = deleteKeys(c, copy, "trust", "truster_idx", "trustee_idx", deletes, d);
+        return new Merged(written, deleted);
     }
 
     private static long key(int a, int b) {
@@ -453,13 +581,18 @@ public final class Importer {
     private void parseRatings(Path file, IdDictionary users, IdDictionary items, RatingRows rows, Problems problems)
             throws IOException {
         String name = file.toString();
-        try (InputStream in = new BufferedInputStream(Files.newInputStream(file), 1 << 16);
+        progress.start("reading " + file.getFileName(), Files.size(file));
+        try (CountingStream in = new CountingStream(new BufferedInputStream(Files.newInputStream(file), 1 << 16));
              CsvRecords csv = new CsvRecords(in)) {
             int columns = header(csv, name, RATING_HEADER, RATING_HEADER_TIMED, problems);
             if (columns < 0) {
                 return;
             }
+            long records = 0;
             while (csv.next()) {
+                if ((++records & (PROGRESS_EVERY_ROWS - 1)) == 0) {
+                    progress.advance(in.count);
+                }
                 long line = csv.line();
                 if (csv.problem() != null) {
                     problems.add(name + ":" + line, csv.problem());
@@ -484,18 +617,24 @@ public final class Importer {
                     problems.add(name + ":" + line, r.getMessage());
                 }
             }
+            progress.finish(records + " rows");
         }
     }
 
     private void parseTrust(Path file, IdDictionary users, TrustRows rows, Problems problems) throws IOException {
         String name = file.toString();
-        try (InputStream in = new BufferedInputStream(Files.newInputStream(file), 1 << 16);
+        progress.start("reading " + file.getFileName(), Files.size(file));
+        try (CountingStream in = new CountingStream(new BufferedInputStream(Files.newInputStream(file), 1 << 16));
              CsvRecords csv = new CsvRecords(in)) {
             int columns = header(csv, name, TRUST_HEADER, TRUST_HEADER_WEIGHTED, problems);
             if (columns < 0) {
                 return;
             }
+            long records = 0;
             while (csv.next()) {
+                if ((++records & (PROGRESS_EVERY_ROWS - 1)) == 0) {
+                    progress.advance(in.count);
+                }
                 long line = csv.line();
                 if (csv.problem() != null) {
                     problems.add(name + ":" + line, csv.problem());
@@ -520,6 +659,7 @@ public final class Importer {
                     problems.add(name + ":" + line, r.getMessage());
                 }
             }
+            progress.finish(records + " rows");
         }
     }
 
@@ -567,6 +707,40 @@ public final class Importer {
             c.rollback();
         } catch (SQLException e) {
             // The original failure is what matters; a broken connection is discarded by the pool.
+        }
+    }
+
+    /** Counts the bytes read through it, for progress. */
+    private static final class CountingStream extends FilterInputStream {
+        long count;
+
+        CountingStream(InputStream in) {
+            super(in);
+        }
+
+        @Override
+        public int read() throws IOException {
+            int b = super.read();
+            if (b >= 0) {
+                count++;
+            }
+            return b;
+        }
+
+        @Override
+        public int read(byte[] b, int off, int len) throws IOException {
+            int n = super.read(b, off, len);
+            if (n > 0) {
+                count += n;
+            }
+            return n;
+        }
+
+        @Override
+        public long skip(long n) throws IOException {
+            long skipped = super.skip(n);
+            count += skipped;
+            return skipped;
         }
     }
 

@@ -3,9 +3,11 @@ package dev.twofold.db.registry;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.internal.BinaryCopyReader;
 import dev.twofold.db.internal.BinaryCopyWriter;
+import dev.twofold.db.internal.PausePoint;
 import dev.twofold.db.internal.ReadOnlySnapshot;
 import dev.twofold.db.internal.SqlFailures;
 import java.io.IOException;
+import java.sql.Array;
 import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
@@ -15,6 +17,7 @@ import java.time.OffsetDateTime;
 import java.util.ArrayList;
 import java.util.BitSet;
 import java.util.List;
+import java.util.Objects;
 import java.util.Optional;
 import java.util.Set;
 import org.postgresql.PGConnection;
@@ -29,7 +32,14 @@ import org.postgresql.copy.CopyManager;
  * <p>Life of a version: {@code training} (created, factors stored) → {@code candidate},
  * {@code rejected} or {@code failed} ({@link #finish}) → {@code active} ({@link #promote}) →
  * {@code retired} when another one is promoted. Any version but a {@code training} or
- * {@code failed} one can be promoted, so a retired version can come back (that is a rollback).
+ * {@code failed} one can be promoted, so a retired version can come back (that is a rollback), and
+ * a rejected one can be promoted by hand. A {@code training} version whose trainer died is failed by
+ * the next trainer ({@link #failOrphans}, only under the {@link RetrainLock}); failed versions lose
+ * their factors at once, since nothing can use them. {@link #retain} deletes old versions but never
+ * the active one or the one a rollback returns to.
+ *
+ * <p>These are the operations both the command line ({@code twofold models}, {@code twofold train})
+ * and the HTTP service's admin routes call, so the rules are the same everywhere.
  */
 public final class ModelRegistry {
 
@@ -41,6 +51,8 @@ public final class ModelRegistry {
     public static final String RETIRED = "retired";
     /** The channel a promotion notifies; the payload is the new active model id. */
     public static final String NOTIFY_CHANNEL = "twofold_models";
+    /** The reason stored on a {@code training} version whose trainer ended without finishing it. */
+    public static final String ORPHAN_REASON = "trainer process ended without finishing";
 
     private static final Set<String> FINAL_STATUSES = Set.of(CANDIDATE, REJECTED, FAILED);
     private static final String HEADER_COLUMNS = "id, status, rank, coupling, lambda, trust_weight, trust_alpha, scale_min,"
@@ -110,6 +122,7 @@ public final class ModelRegistry {
                 users.row(4).int8(modelId).int4(u).float4(factors.userBias()[u]).bytea(factors.userFactors(), u * k, k);
             }
             users.finish();
+            PausePoint.reached("store-factors");
             BinaryCopyWriter items = new BinaryCopyWriter(copy.copyIn(
                     "copy model_item_factors (model_id, item_idx, bias, popularity, factors) from stdin (format binary)"));
             for (int i = factors.knownItems().nextSetBit(0); i >= 0; i = factors.knownItems().nextSetBit(i + 1)) {
@@ -150,7 +163,60 @@ public final class ModelRegistry {
                 ps.setLong(4, modelId);
                 ps.executeUpdate();
             }
+            if (FAILED.equals(status)) {
+                dropFactors(c, List.of(modelId));
+            }
             return null;
+        });
+    }
+
+    /**
+     * Replaces the metrics and reason of a finished version without changing its status (a trainer
+     * whose promotion did not happen records why).
+     *
+     * @throws ModelStateException when the version is still training
+     */
+    public void annotate(long modelId, String metricsJson, String reason) {
+        inTransaction("annotating model " + modelId, c -> {
+            ModelHeader h = lockedHeader(c, modelId);
+            if (TRAINING.equals(h.status())) {
+                throw new ModelStateException("model " + modelId + " is still training; finish it instead");
+            }
+            try (PreparedStatement ps = c.prepareStatement("update models set metrics = coalesce(?::jsonb, metrics), reason = ?"
+                    + " where id = ?")) {
+                ps.setString(1, metricsJson);
+                ps.setString(2, reason);
+                ps.setLong(3, modelId);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    /**
+     * Marks every {@code training} version {@code failed} with {@link #ORPHAN_REASON} and drops its
+     * factors; returns their ids, oldest first. Only the holder of the retrain lock may call this, and
+     * before it creates its own version: while it holds the lock no other trainer is alive, so every
+     * {@code training} version belongs to a trainer that died (killed, crashed, lost its machine).
+     *
+     * @throws dev.twofold.db.DatabaseFailureException when the lock is no longer held
+     */
+    public List<Long> failOrphans(RetrainLock lock) {
+        lock.verifyHeld();
+        return inTransaction("failing versions whose trainer ended", c -> {
+            List<Long> ids = new ArrayList<>();
+            try (PreparedStatement ps = c.prepareStatement("update models set status = 'failed', reason = ?, finished_at = now()"
+                    + " where status = 'training' returning id")) {
+                ps.setString(1, ORPHAN_REASON);
+                try (ResultSet rs = ps.executeQuery()) {
+                    while (rs.next()) {
+                        ids.add(rs.getLong(1));
+                    }
+                }
+            }
+            ids.sort(null);
+            dropFactors(c, ids);
+            return ids;
         });
     }
 
@@ -164,6 +230,31 @@ public final class ModelRegistry {
         inTransaction("promoting model " + modelId, c -> {
             promoteLocked(c, modelId);
             return null;
+        });
+    }
+
+    /**
+     * Promotes a finished version only if the active version is still {@code expectedActive} (null:
+     * no model active), in one transaction; returns whether it did. A trainer compares its candidate
+     * with the active model and then promotes it this way, so a model promoted or rolled back by
+     * hand in the meantime is never replaced by a candidate that was judged against another model.
+     *
+     * @throws ModelStateException for a version that is {@code training} or {@code failed}
+     */
+    public boolean promoteIfActive(long modelId, Long expectedActive) {
+        return inTransaction("promoting model " + modelId, c -> {
+            lockPointer(c);
+            Long current = null;
+            try (Statement s = c.createStatement(); ResultSet rs = s.executeQuery("select model_id from active_model")) {
+                if (rs.next()) {
+                    current = rs.getLong(1);
+                }
+            }
+            if (!Objects.equals(current, expectedActive)) {
+                return false;
+            }
+            promoteLocked(c, modelId);
+            return true;
         });
     }
 
@@ -216,6 +307,39 @@ public final class ModelRegistry {
                 }
             }
             return null;
+        });
+    }
+
+    /**
+     * Retention: keeps the {@code keep} newest versions (by id, whatever their status) and deletes
+     * the older ones with their factors — except the active version, the one a rollback returns to,
+     * and any version still {@code training}. Returns the deleted ids, oldest first.
+     *
+     * @throws IllegalArgumentException when {@code keep} is outside {@link Retention}'s range
+     */
+    public List<Long> retain(int keep) {
+        new Retention(keep); // validates
+        return inTransaction("deleting old model versions", c -> {
+            lockPointer(c);
+            List<Long> ids = new ArrayList<>();
+            try (PreparedStatement ps = c.prepareStatement("select m.id from models m"
+                    + " where m.status <> 'training' and m.id not in (select model_id from active_model)"
+                    + " and m.id not in (select previous_model_id from active_model where previous_model_id is not null)"
+                    + " and m.id < all (select id from models order by id desc limit ?)"
+                    + " order by m.id for update")) {
+                ps.setInt(1, keep);
+                try (ResultSet rs = ps.executeQuery()) {
+                    while (rs.next()) {
+                        ids.add(rs.getLong(1));
+                    }
+                }
+            }
+            dropFactors(c, ids);
+            try (PreparedStatement ps = c.prepareStatement("delete from models where id = any (?)")) {
+                ps.setArray(1, c.createArrayOf("int8", ids.toArray()));
+                ps.executeUpdate();
+            }
+            return ids;
         });
     }
 
@@ -354,6 +478,19 @@ public final class ModelRegistry {
             point.executeUpdate();
             notify.setString(1, Long.toString(modelId));
             notify.executeQuery().close();
+        }
+    }
+
+    private static void dropFactors(Connection c, List<Long> modelIds) throws SQLException {
+        if (modelIds.isEmpty()) {
+            return;
+        }
+        Array ids = c.createArrayOf("int8", modelIds.toArray());
+        for (String table : List.of("model_user_factors", "model_item_factors", "model_trust_factors")) {
+            try (PreparedStatement ps = c.prepareStatement("delete from " + table + " where model_id = any (?)")) {
+                ps.setArray(1, ids);
+                ps.executeUpdate();
+            }
         }
     }
 

@@ -105,4 +105,20 @@ class ImportCommandTest {
         assertEquals(2, run("--trust", "t.csv", "--scale", "5..1"));
         assertTrue(err.toString().contains("needs a finite MIN below MAX"), err.toString());
     }
+
+    @Test
+    void replace_mode_says_how_many_stored_rows_it_deleted() throws IOException, SQLException {
+        Path first = Files.writeString(dir.resolve("first.csv"), "user,item,rating\nann,pie,4\nben,pie,5\n");
+        assertEquals(0, run("--ratings", first.toString(), "--quiet"));
+        Path full = Files.writeString(dir.resolve("full.csv"), "user,item,rating\nann,pie,3\n");
+        assertEquals(0, run("--ratings", full.toString(), "--mode", "replace", "--quiet"));
+        assertTrue(out.toString().contains(full + ": 1 rows read, 1 ratings written, 1 not in the file deleted"), out.toString());
+        assertEquals(List.of("ann,pie,3"), Tables.ratings(db));
+    }
+
+    @Test
+    void an_unknown_mode_is_a_usage_error() {
+        assertEquals(2, run("--trust", "t.csv", "--mode", "merge"));
+        assertTrue(err.toString().contains("mode 'merge' is not one of append, replace"), err.toString());
+    }
 }

@@ -78,7 +78,7 @@ class ImporterTest {
         assertEquals(List.of("ann,ben,0.5", "ben,ann,1", "cleo,ann,1"), Tables.trust(db));
         assertEquals(List.of("ann", "ben", "cleo"), Tables.userIds(db), "new ids get indices in sorted order");
         assertEquals(List.of("apple-pie", "lentil-soup", "risotto"), Tables.itemIds(db));
-        assertEquals(new ImportReport(4, 4, 3, 3, 3, 3, report.took()), report);
+        assertEquals(new ImportReport(4, 4, 3, 3, 3, 3, report.took(), ImportMode.APPEND, 0, 0), report);
     }
 
     @Test

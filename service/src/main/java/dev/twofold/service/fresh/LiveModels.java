@@ -12,6 +12,7 @@ import java.util.Optional;
 import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.concurrent.atomic.AtomicReference;
+import java.util.function.IntConsumer;
 
 /**
  * The current {@link LiveModel}, replaced in one atomic step, and the two ways it changes:
@@ -41,6 +42,25 @@ public final class LiveModels {
     private final Object installs = new Object();
     private final int capacity;
     private final Clock clock;
+
+    /** Told after every swap: the model now answering and how long the swap took (for metrics). */
+    public interface InstallListener {
+        void installed(ServingModel model, long swapNanos);
+    }
+
+    private volatile InstallListener installListener = (model, nanos) -> { };
+
+    /** Sets who is told of every swap (one listener; the service's operator view). */
+    public void onInstall(InstallListener listener) {
+        installListener = listener == null ? (model, nanos) -> { } : listener;
+    }
+
+    private volatile IntConsumer foldInListener = users -> { };
+
+    /** Sets who is told how many users each {@link #foldIn} folded in (one listener; the service's operator view). */
+    public void onFoldIn(IntConsumer listener) {
+        foldInListener = listener == null ? users -> { } : listener;
+    }
 
     /** @param capacity most users kept folded in per model */
     public LiveModels(int capacity) {
@@ -74,12 +94,14 @@ public final class LiveModels {
         if (next == null) {
             throw new IllegalArgumentException("model must not be null");
         }
+        long started = System.nanoTime();
         synchronized (installs) {
             LiveModel old = current.get();
             if (old == null) {
                 synchronized (writes) {
                     current.set(new LiveModel(next, new FreshUsers(capacity), new ConcurrentHashMap<>()));
                 }
+                installListener.installed(next, System.nanoTime() - started);
                 return Optional.empty();
             }
             long cutoff = next.header().createdAt().toEpochMilli() - REBASE_MARGIN.toMillis();
@@ -109,6 +131,7 @@ public final class LiveModels {
                 }
                 current.set(new LiveModel(next, rebased, erased));
             }
+            installListener.installed(next, System.nanoTime() - started);
             return Optional.of(old.model());
         }
     }
@@ -146,6 +169,9 @@ public final class LiveModels {
                 target.erased().remove(user.userId()); // written again after an erasure: a new user
                 target.fresh().put(target == live ? user : refold(target.model(), user, scratch));
             }
+        }
+        if (!made.isEmpty()) {
+            foldInListener.accept(made.size());
         }
         return made.size();
     }

@@ -26,6 +26,7 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.Optional;
+import java.util.function.Consumer;
 import java.util.function.Supplier;
 import org.eclipse.jetty.server.handler.GracefulHandler;
 
@@ -64,6 +65,7 @@ public final class HttpApi {
     private final ModelControl models;
     private final AccessPolicy access;
     private final ServingObserver observer;
+    private final Consumer<JavalinConfig> extensions;
     private final Problems problems;
     private final int retryAfterSeconds;
     private final GracefulHandler graceful = new GracefulHandler();
@@ -82,12 +84,22 @@ public final class HttpApi {
      */
     public HttpApi(Supplier<LiveModel> live, Ranker ranker, Intake intake, ModelControl models, AccessPolicy access,
             ServingObserver observer, Duration stopTimeout, int retryAfterSeconds) {
+        this(live, ranker, intake, models, access, observer, config -> { }, stopTimeout, retryAfterSeconds);
+    }
+
+    /**
+     * @param extensions adds to the server's configuration before it starts (the operator routes,
+     *                   request ids and the request log of {@code dev.twofold.service.ops})
+     */
+    public HttpApi(Supplier<LiveModel> live, Ranker ranker, Intake intake, ModelControl models, AccessPolicy access,
+            ServingObserver observer, Consumer<JavalinConfig> extensions, Duration stopTimeout, int retryAfterSeconds) {
         this.live = live;
         this.ranker = ranker;
         this.intake = intake;
         this.models = models;
         this.access = access;
         this.observer = observer;
+        this.extensions = extensions;
         this.retryAfterSeconds = retryAfterSeconds;
         this.problems = new Problems(retryAfterSeconds);
         this.openApi = readOpenApi();
@@ -146,6 +158,7 @@ public final class HttpApi {
         config.routes.get("/health/live", this::live);
         config.routes.get("/health/ready", this::ready);
         config.routes.get("/openapi.yaml", ctx -> ctx.contentType(YAML).result(openApi));
+        extensions.accept(config);
         problems.register(config.routes);
     }
 

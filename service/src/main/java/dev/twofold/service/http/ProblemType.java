@@ -23,6 +23,11 @@ public enum ProblemType {
 
     /** Prefix of every problem type URI. */
     public static final String URI_PREFIX = "tag:twofold.dev,2026:problem:";
+    /**
+     * Request attribute holding the {@code type} of the problem a response carries, set where the
+     * problem is written, so metrics and the request log can count errors by type.
+     */
+    public static final String REQUEST_ATTRIBUTE = "twofold.problem.type";
 
     private final int status;
     private final String slug;

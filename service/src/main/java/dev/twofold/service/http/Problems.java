@@ -94,6 +94,7 @@ final class Problems {
     private static void send(Context ctx, String type, String title, int status, String detail,
             Map<String, String> headers, List<String> errors) {
         headers.forEach(ctx::header);
+        ctx.attribute(ProblemType.REQUEST_ATTRIBUTE, type);
         ctx.status(status).contentType(CONTENT_TYPE).result(json(type, title, status, detail, ctx.path(), errors));
     }
 

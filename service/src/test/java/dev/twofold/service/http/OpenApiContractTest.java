@@ -241,6 +241,7 @@ class OpenApiContractTest {
     }
 
     private static String concrete(String template) {
-        return template.replace("{user}", "cy").replace("{item}", "soup").replace("{id}", Long.toString(model));
+        return template.replace("{user}", "cy").replace("{item}", "soup").replace("{id}", Long.toString(model))
+                .replace("{name}", "dashboard.css");
     }
 }

@@ -96,7 +96,16 @@ public final class Progress {
         /** Records that {@code doneSoFar} steps are done; {@code detail} (may be empty) is shown beside. */
         public void advance(long doneSoFar, String detail) {
             done = Math.min(total, Math.max(0, doneSoFar));
-            show(detail, false);
+            show(detail, false, false);
+        }
+
+        /**
+         * Like {@link #advance}, but in a log the line is always written: for steps worth a line each,
+         * such as the epochs of a fit with their objective.
+         */
+        public void advanceAndLog(long doneSoFar, String detail) {
+            done = Math.min(total, Math.max(0, doneSoFar));
+            show(detail, false, true);
         }
 
         /** Ends the task (steps not done are counted as done). Safe to call twice. */
@@ -106,16 +115,16 @@ public final class Progress {
             }
             finished = true;
             done = total;
-            show(detail, true);
+            show(detail, true, false);
         }
 
-        private void show(String detail, boolean last) {
+        private void show(String detail, boolean last, boolean always) {
             if (out == null) {
                 return;
             }
             long now = clockNanos.getAsLong();
             long interval = (terminal ? REDRAW_INTERVAL_MS : LOG_INTERVAL_MS) * 1_000_000L;
-            if (!last && lastShownNanos != Long.MIN_VALUE && now - lastShownNanos < interval) {
+            if (!last && !(always && !terminal) && lastShownNanos != Long.MIN_VALUE && now - lastShownNanos < interval) {
                 return;
             }
             lastShownNanos = now;

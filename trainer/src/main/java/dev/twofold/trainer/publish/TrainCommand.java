@@ -1,7 +1,11 @@
 package dev.twofold.trainer.publish;
 
+import dev.twofold.db.TwofoldException;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
+import dev.twofold.db.registry.RetrainLock;
+import dev.twofold.db.registry.RetrainLockedException;
+import dev.twofold.db.registry.Retention;
 import dev.twofold.trainer.fit.Coupling;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.SolverKind;
@@ -9,6 +13,7 @@ import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.split.SplitMethod;
 import dev.twofold.trainer.sweep.Sweep;
 import java.io.PrintWriter;
+import java.util.Map;
 import java.util.concurrent.Callable;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Model.CommandSpec;
@@ -18,13 +23,36 @@ import picocli.CommandLine.Spec;
 
 /**
  * {@code twofold train}: fits a model on everything in the database, judges it on held-out ratings
- * against the baselines and the active model, stores it and promotes it when it is at least as good.
- * Without {@code --rank} or {@code --lambda} it first sweeps them on a validation split of the
- * training ratings and says which it chose and why.
+ * against the baselines and the live model, stores it and promotes it per {@code --promote}. Without
+ * {@code --rank} or {@code --lambda} it first sweeps them on a validation split of the training
+ * ratings and says which it chose and why. One retrain runs at a time (exit 75 when another holds
+ * the lock). Exit 0 whenever the run finished, whatever it decided: the report (or {@code --json}'s
+ * {@code outcome}) says promoted, candidate or rejected.
  */
 @Command(name = "train", mixinStandardHelpOptions = true,
-        description = "Fit a model on all ratings and trust edges, evaluate it on held-out ratings against baselines and the active model, store it, and promote it when it is at least as good.")
+        description = {
+            "Fit a model on all ratings and trust edges, evaluate it on held-out ratings against the baselines and the"
+                    + " live model (on the same rows), store it, and promote it when it passes the quality gate.",
+            "Gate (--promote auto): promoted only if RMSE <= live RMSE x (1 + --rmse-tolerance) and precision@k >= live"
+                    + " precision@k x (1 - --precision-tolerance); otherwise stored as rejected with the reason.",
+            "One retrain at a time: a second one exits 75 at once, naming the holder. A version left 'training' by a"
+                    + " trainer that died is marked failed by the next run.",
+            "Exit codes: 0 the run finished (promoted, kept as candidate, or rejected: see the report or --json's"
+                    + " outcome), 2 usage, 65 bad data, 69 database unavailable, 75 another retrain is running, 1 other failure.",
+            ""
+        })
 public final class TrainCommand implements Callable<Integer> {
+
+    private final Map<String, String> environment;
+
+    public TrainCommand() {
+        this(System.getenv());
+    }
+
+    /** With an explicit environment (the {@code TWOFOLD_DB_*} and {@code TWOFOLD_KEEP_MODELS} variables), for tests. */
+    public TrainCommand(Map<String, String> environment) {
+        this.environment = environment;
+    }
 
     @Spec
     CommandSpec spec;
@@ -71,17 +99,67 @@ public final class TrainCommand implements Callable<Integer> {
     @Option(names = "--k", paramLabel = "K", description = "list length for precision@k, recall@k, nDCG@k (default: ${DEFAULT-VALUE})")
     int k = TrainSettings.defaults().k();
 
+    @Option(names = "--promote", paramLabel = "POLICY", description = "auto: promote only when the quality gate passes,"
+            + " else store as rejected; never: store as a candidate; always: promote whatever the gate says"
+            + " (default: ${DEFAULT-VALUE})")
+    String promote = PromotionPolicy.AUTO.label();
+
+    @Option(names = "--rmse-tolerance", paramLabel = "F", description = "gate: held-out RMSE may be at most this fraction"
+            + " above the live model's (default: ${DEFAULT-VALUE}, 0.5 percent)")
+    double rmseTolerance = QualityGate.DEFAULT_RMSE_TOLERANCE;
+
+    @Option(names = "--precision-tolerance", paramLabel = "F", description = "gate: precision@k may be at most this fraction"
+            + " below the live model's (default: ${DEFAULT-VALUE}, 3 percent)")
+    double precisionTolerance = QualityGate.DEFAULT_PRECISION_TOLERANCE;
+
+    @Option(names = "--keep", paramLabel = "N", description = "after the run, keep the N newest model versions (always also"
+            + " the active one and the one a rollback returns to) and delete older ones (default: $TWOFOLD_KEEP_MODELS, else "
+            + Retention.DEFAULT_KEEP + ")")
+    Integer keep;
+
+    @Option(names = "--json", description = "print the report as one JSON document on standard output (logs stay on"
+            + " standard error); a run that stops prints {\"outcome\": \"failed\" or \"locked\", ...}")
+    boolean json;
+
     @Override
     public Integer call() {
         TrainSettings settings = settings();
-        try (Database database = Database.open(DatabaseSettings.fromEnvironment(System.getenv()))) {
-            TrainReport report = new TrainJob(database, settings, settings.solver().create(),
-                    Progress.forConsole("train")).run();
-            PrintWriter out = spec.commandLine().getOut();
-            out.print(report.summary());
+        PublishSettings publish = publishSettings();
+        PrintWriter out = spec.commandLine().getOut();
+        TrainJob job = null;
+        try (Database database = Database.open(DatabaseSettings.fromEnvironment(environment))) {
+            job = new TrainJob(database, settings, publish, settings.solver().create(), Progress.forConsole("train"));
+            TrainReport report = job.run();
+            out.print(json ? report.toJson() + System.lineSeparator() : report.summary());
             out.flush();
+        } catch (TwofoldException e) {
+            if (json) {
+                printFailure(out, e.exitCode(), e.getMessage(), job, e instanceof RetrainLockedException locked
+                        ? locked.holder().orElse(null) : null);
+            }
+            throw e;
+        } catch (RuntimeException e) {
+            if (json) {
+                printFailure(out, TwofoldException.EXIT_SOFTWARE, e.toString(), job, null);
+            }
+            throw e;
         }
         return 0;
+    }
+
+    private static void printFailure(PrintWriter out, int exitCode, String reason, TrainJob job, RetrainLock.Holder holder) {
+        out.println(MetricsJson.failure(exitCode, reason, job == null ? null : job.modelId().orElse(null), holder));
+        out.flush();
+    }
+
+    PublishSettings publishSettings() {
+        try {
+            Retention retention = keep == null ? Retention.fromEnvironment(environment) : new Retention(keep);
+            return new PublishSettings(PromotionPolicy.parse(promote), new QualityGate(rmseTolerance, precisionTolerance),
+                    retention);
+        } catch (IllegalArgumentException e) {
+            throw new ParameterException(spec.commandLine(), "train: " + e.getMessage());
+        }
     }
 
     TrainSettings settings() {

@@ -1,9 +1,13 @@
 package dev.twofold.trainer.publish;
 
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import dev.twofold.db.connect.Database;
+import dev.twofold.db.internal.PausePoint;
 import dev.twofold.db.registry.ModelFactors;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.registry.ModelRegistry;
+import dev.twofold.db.registry.RetrainLock;
 import dev.twofold.db.snapshot.Snapshot;
 import dev.twofold.db.snapshot.SnapshotReader;
 import dev.twofold.trainer.TrainerException;
@@ -12,6 +16,7 @@ import dev.twofold.trainer.evaluate.Baselines;
 import dev.twofold.trainer.evaluate.Evaluator;
 import dev.twofold.trainer.evaluate.Scorer;
 import dev.twofold.trainer.evaluate.SegmentFigures;
+import dev.twofold.trainer.fit.EpochListener;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
@@ -21,16 +26,22 @@ import dev.twofold.trainer.sweep.SweepPoint;
 import dev.twofold.trainer.sweep.SweepResult;
 import java.time.Duration;
 import java.time.Instant;
+import java.util.ArrayList;
 import java.util.Collections;
 import java.util.LinkedHashMap;
+import java.util.List;
 import java.util.Locale;
 import java.util.Map;
 import java.util.Optional;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * One retrain, from the database back to the database:
  *
  * <ol>
+ *   <li><b>lock</b>: take the {@link RetrainLock} or stop at once (exit 75); versions left
+ *       {@code training} by a trainer that died are marked {@code failed};
  *   <li><b>read</b> a consistent snapshot of all ratings and trust edges;
  *   <li><b>split</b> off the held-out ratings ({@link TrainSettings#holdout()}, by user or by time, a
  *       fixed split seed so every retrain is judged on the same rows) and build the matrices;
@@ -41,46 +52,92 @@ import java.util.Optional;
  *   <li><b>fit</b> the model on all training ratings and all trust edges;
  *   <li><b>evaluate</b> it on the held-out ratings, and the <b>baselines</b> (global mean, biases only,
  *       most popular, the same model without trust);
- *   <li><b>compare</b> with the active model's stored factors on the same held-out rows;
+ *   <li><b>compare</b>: the live model's stored factors are judged on the same held-out rows with the
+ *       same figures, and the {@link QualityGate} decides whether the candidate may replace it;
  *   <li><b>store</b> the factors, with item popularity = the number of training ratings at or above
- *       the relevance threshold (what serving uses for people nobody knows), and finish the version:
- *       promoted to active when it is the first model or its held-out RMSE ≤ the active model's ×
- *       (1 + tolerance), else {@code rejected} with the reason.
+ *       the relevance threshold (what serving uses for people nobody knows);
+ *   <li><b>promote</b> per {@link PromotionPolicy}: {@code auto} promotes when the gate passes and
+ *       stores the version as {@code rejected} with the gate's reason otherwise; {@code never} keeps
+ *       a {@code candidate}; {@code always} promotes. A promotion moves the pointer only if the live
+ *       model is still the one the candidate was judged against;
+ *   <li><b>retention</b>: delete old versions ({@link dev.twofold.db.registry.Retention}).
  * </ol>
  *
  * Any failure after the version was registered marks it {@code failed} with the reason and is
- * rethrown; the active model never changes unless the whole job succeeded.
+ * rethrown. The active model changes only in the one transaction that moves the pointer, so a
+ * trainer that dies at any point (kill -9 included) leaves it as it was; its version stays
+ * {@code training} until the next run fails it.
  */
 public final class TrainJob {
 
+    /** The command the lock holder is shown as. */
+    public static final String LOCK_COMMAND = "twofold train";
     static final int MAX_REASON_CHARS = 500;
+
+    private static final Logger LOG = LoggerFactory.getLogger(TrainJob.class);
+    private static final ObjectMapper JSON = new ObjectMapper();
 
     private final Database database;
     private final TrainSettings settings;
+    private final PublishSettings publish;
     private final Solver solver;
     private final Progress progress;
+    private volatile Long modelId;
 
     public TrainJob(Database database, TrainSettings settings) {
-        this(database, settings, settings.solver().create(), Progress.silent());
+        this(database, settings, PublishSettings.defaults(), settings.solver().create(), Progress.silent());
     }
 
     public TrainJob(Database database, TrainSettings settings, Solver solver) {
-        this(database, settings, solver, Progress.silent());
+        this(database, settings, PublishSettings.defaults(), solver, Progress.silent());
+    }
+
+    public TrainJob(Database database, TrainSettings settings, PublishSettings publish) {
+        this(database, settings, publish, settings.solver().create(), Progress.silent());
+    }
+
+    public TrainJob(Database database, TrainSettings settings, PublishSettings publish, Solver solver) {
+        this(database, settings, publish, solver, Progress.silent());
     }
 
     /** @param progress shows how far the sweep and the fit have come */
-    public TrainJob(Database database, TrainSettings settings, Solver solver, Progress progress) {
+    public TrainJob(Database database, TrainSettings settings, PublishSettings publish, Solver solver,
+            Progress progress) {
         this.database = database;
         this.settings = settings;
+        this.publish = publish;
         this.solver = solver;
         this.progress = progress;
     }
 
+    /** The version this run registered, once it has (so a caller can name it when the run fails). */
+    public Optional<Long> modelId() {
+        return Optional.ofNullable(modelId);
+    }
+
+    /**
+     * @throws dev.twofold.db.registry.RetrainLockedException (exit 75) when another retrain runs
+     */
     public TrainReport run() {
-        Map<String, Duration> phases = new LinkedHashMap<>();
         long t = System.nanoTime();
+        try (RetrainLock lock = RetrainLock.acquire(database, LOCK_COMMAND)) {
+            PausePoint.reached("lock");
+            return runLocked(lock, t);
+        }
+    }
+
+    private TrainReport runLocked(RetrainLock lock, long started) {
+        Map<String, Duration> phases = new LinkedHashMap<>();
+        ModelRegistry registry = new ModelRegistry(database);
+        List<Long> recovered = registry.failOrphans(lock);
+        if (!recovered.isEmpty()) {
+            LOG.warn("marked model(s) {} failed: {}", recovered, ModelRegistry.ORPHAN_REASON);
+        }
+        long t = lap(phases, "lock", started);
         Snapshot snapshot = new SnapshotReader(database).read();
         t = lap(phases, "read", t);
+        LOG.info("read {} ratings and {} trust edges of {} users and {} items", snapshot.numRatings(),
+                snapshot.numTrustEdges(), snapshot.numUsers(), snapshot.numItems());
         if (snapshot.numRatings() == 0) {
             throw new TrainerException("there are no ratings to train on; import ratings first (twofold import)");
         }
@@ -95,12 +152,13 @@ public final class TrainJob {
         if (tuning.sweep() != null) {
             t = lap(phases, "tune", t);
         }
-        ModelRegistry registry = new ModelRegistry(database);
         long id = registry.create(draft(chosen, snapshot, (float) data.train().mean(), counts));
+        modelId = id;
+        LOG.info("model {}: training on {} ratings, {} held out", id, counts.trainRatings(), counts.heldOutRatings());
+        TrainReport report;
         try {
             Progress.Task fitting = progress.start("fit", chosen.fit().epochs());
-            FittedModel model = solver.fit(data.trainingData(), chosen.fit(), e -> fitting.advance(e.epoch(),
-                    String.format(Locale.ROOT, "objective %.6g", e.objective())));
+            FittedModel model = solver.fit(data.trainingData(), chosen.fit(), epochs(fitting));
             fitting.finish("");
             requireFinite(model);
             t = lap(phases, "fit", t);
@@ -114,44 +172,74 @@ public final class TrainJob {
             t = lap(phases, "baselines", t);
 
             Optional<ModelHeader> active = registry.active();
-            Long activeId = null;
-            double activeRmse = Double.NaN;
+            Long liveId = null;
+            SegmentFigures live = null;
+            List<String> notes = new ArrayList<>();
             if (active.isPresent()) {
-                activeId = active.get().id();
-                FittedModel live = StoredModel.scorerOf(active.get(), registry.loadFactors(activeId),
+                liveId = active.get().id();
+                FittedModel stored = StoredModel.scorerOf(active.get(), registry.loadFactors(liveId),
                         snapshot.numUsers(), snapshot.numItems());
-                activeRmse = evaluator.errors(Scorer.of(live)).overall().rmse();
+                live = evaluator.evaluate(Scorer.of(stored));
+                splitNote(active.get()).ifPresent(notes::add);
             }
-            double candidateRmse = figures.overall().rmse();
-            String reason = rejection(activeId, activeRmse, candidateRmse);
-            Decision decision = reason == null ? Decision.PROMOTED : Decision.REJECTED;
+            QualityGate.Verdict verdict = publish.gate().judge(figures.overall(), live == null ? null : live.overall(),
+                    liveId == null ? 0 : liveId, settings.k());
+            Decision decision = decide(verdict);
+            String reason = reason(decision, verdict);
             t = lap(phases, "compare", t);
+            LOG.info("model {}: gate {} ({}); decision {}", id, verdict.passes() ? "passed" : "failed", verdict.reason(),
+                    decision.label());
 
-            TrainReport report = new TrainReport(id, decision, reason, counts, phases, settings.k(), figures, baselines,
-                    activeId, activeRmse, model.history(), tuning.why(), tuning.sweep());
-            ModelFactors factors = StoredModel.factorsOf(model, popularity);
-            registry.storeFactors(id, factors);
-            String metrics = MetricsJson.metrics(report, chosen);
+            registry.storeFactors(id, StoredModel.factorsOf(model, popularity));
+            t = lap(phases, "store", t);
+
+            report = new TrainReport(id, decision, reason, chosen, publish, counts, phases, figures, baselines, liveId,
+                    decision == Decision.PROMOTED ? Long.valueOf(id) : liveId, live, verdict, List.copyOf(notes), recovered,
+                    List.of(), model.history(), tuning.why(), tuning.sweep());
             if (decision == Decision.PROMOTED) {
-                registry.finish(id, "candidate", metrics, null);
-                registry.promote(id);
+                registry.finish(id, ModelRegistry.CANDIDATE, MetricsJson.metrics(report), reason);
+                PausePoint.reached("promote");
+                lock.verifyHeld();
+                if (!registry.promoteIfActive(id, liveId)) {
+                    Long now = registry.active().map(ModelHeader::id).orElse(null);
+                    reason = "the active model changed while this retrain ran (it was judged against "
+                            + (liveId == null ? "no model" : "model " + liveId) + ", now model " + now
+                            + " is active); kept as a candidate: compare and promote it by hand";
+                    report = withDecision(report, Decision.CANDIDATE, reason, now);
+                    registry.annotate(id, MetricsJson.metrics(report), reason);
+                }
             } else {
-                registry.finish(id, "rejected", metrics, reason);
+                String status = decision == Decision.REJECTED ? ModelRegistry.REJECTED : ModelRegistry.CANDIDATE;
+                registry.finish(id, status, MetricsJson.metrics(report), reason);
             }
-            lap(phases, "store", t);
-            return new TrainReport(id, decision, reason, counts, Collections.unmodifiableMap(new LinkedHashMap<>(phases)),
-                    settings.k(), figures, baselines, activeId, activeRmse, model.history(), tuning.why(), tuning.sweep());
+            t = lap(phases, "promote", t);
         } catch (RuntimeException | Error e) {
             try {
-                registry.finish(id, "failed", "{}", describe(e));
+                registry.finish(id, ModelRegistry.FAILED, "{}", describe(e));
             } catch (RuntimeException f) {
                 e.addSuppressed(f);
             }
             throw e;
         }
+        List<Long> deleted = List.of();
+        try {
+            deleted = registry.retain(publish.retention().keep());
+        } catch (RuntimeException e) {
+            // the model is stored and the decision made; a failed clean-up is for the next run
+            LOG.warn("retention after model {} failed; the next run tries again: {}", id, e.toString());
+        }
+        lap(phases, "retention", t);
+        return new TrainReport(id, report.decision(), report.reason(), report.settings(), publish, counts,
+                Collections.unmodifiableMap(new LinkedHashMap<>(phases)), report.model(), report.baselines(),
+                report.liveModelId(), report.activeModelId(), report.live(), report.verdict(), report.notes(), recovered,
+                deleted, report.history(), report.tuning(), report.sweep());
     }
 
-    /** The fit settings to use, and why: the given ones, or a sweep's choice on a validation split. */
+    /**
+     * The fit settings to use, and why: the given ones, or a sweep's choice on a validation split. The
+     * choice needs only the validation RMSE, so the sweep skips precision@k (a quarter of its time at
+     * 1,000,000 ratings); {@code twofold sweep} reports both.
+     */
     record Tuning(FitSettings fit, String why, SweepResult sweep) {
     }
 
@@ -171,7 +259,7 @@ public final class TrainJob {
         float[] lambdas = settings.sweepLambdas().length > 0 ? settings.sweepLambdas() : new float[] {fit.lambda()};
         FitSettings base = fit.withPatience(Math.max(1, settings.patience()));
         SweepResult sweep = Sweep.run(Sweep.withValidation(v.fit(), v.rows(), settings.scale().min(), settings.scale().max()),
-                v.rows(), solver, base, ranks, lambdas, settings.evaluation(), progress);
+                v.rows(), solver, base, ranks, lambdas, settings.evaluation(), false, progress);
         SweepPoint best = sweep.best();
         FitSettings chosen = fit.withRank(best.rank()).withLambda(best.lambda())
                 .withEpochs(settings.patience() > 0 ? best.bestEpoch() : fit.epochs());
@@ -193,27 +281,69 @@ public final class TrainJob {
         return new Tuning(chosen, why, sweep);
     }
 
-    /** Null when the candidate should be promoted, else why not. */
-    String rejection(Long activeId, double activeRmse, double candidateRmse) {
-        if (activeId == null) {
-            return null;
-        }
-        if (!Double.isFinite(candidateRmse) || !Double.isFinite(activeRmse)) {
-            return "no held-out ratings to compare it with active model " + activeId + "; promote it by hand if wanted";
-        }
-        double limit = activeRmse * (1 + settings.promoteTolerance());
-        if (candidateRmse <= limit) {
-            return null;
-        }
-        return String.format(Locale.ROOT, "held-out RMSE %.4f is worse than active model %d's %.4f by more than %.1f%%",
-                candidateRmse, activeId, activeRmse, 100 * settings.promoteTolerance());
+    private Decision decide(QualityGate.Verdict verdict) {
+        return switch (publish.policy()) {
+            case AUTO -> verdict.passes() ? Decision.PROMOTED : Decision.REJECTED;
+            case NEVER -> Decision.CANDIDATE;
+            case ALWAYS -> Decision.PROMOTED;
+        };
     }
 
-    private static ModelHeader draft(TrainSettings chosen, Snapshot snapshot, float globalMean, TrainReport.Counts counts) {
+    private String reason(Decision decision, QualityGate.Verdict verdict) {
+        String reason = switch (publish.policy()) {
+            case AUTO -> (verdict.passes() ? "quality gate passed: " : "quality gate failed: ") + verdict.reason();
+            case NEVER -> "--promote never: kept as a candidate; the quality gate " + (verdict.passes() ? "passed" : "failed")
+                    + ": " + verdict.reason();
+            case ALWAYS -> "--promote always" + (verdict.passes() ? "; the quality gate passed: "
+                    : "; promoted although the quality gate failed: ") + verdict.reason();
+        };
+        return clip(reason);
+    }
+
+    private static TrainReport withDecision(TrainReport r, Decision decision, String reason, Long active) {
+        return new TrainReport(r.modelId(), decision, reason, r.settings(), r.publish(), r.counts(), r.phases(), r.model(),
+                r.baselines(), r.liveModelId(), active, r.live(), r.verdict(), r.notes(), r.recovered(), r.deleted(),
+                r.history(), r.tuning(), r.sweep());
+    }
+
+    /** A caveat when the live model was split differently: it may have trained on some of these held-out rows. */
+    private Optional<String> splitNote(ModelHeader live) {
+        try {
+            JsonNode params = JSON.readTree(live.paramsJson());
+            JsonNode holdout = params.get("holdout");
+            JsonNode seed = params.get("splitSeed");
+            if (holdout == null || seed == null) {
+                return Optional.of("live model " + live.id() + " records no held-out split; it may have trained on some of"
+                        + " these held-out rows, which favours it");
+            }
+            if (holdout.asDouble() != settings.holdout() || seed.asLong() != settings.splitSeed()) {
+                return Optional.of(String.format(Locale.ROOT, "live model %d was split with holdout %s and seed %d, this"
+                        + " run with %s and %d: it may have trained on some of these held-out rows, which favours it",
+                        live.id(), holdout.asText(), seed.asLong(), settings.holdout(), settings.splitSeed()));
+            }
+            return Optional.empty();
+        } catch (Exception e) {
+            return Optional.of("live model " + live.id() + " has unreadable parameters: " + e.getMessage());
+        }
+    }
+
+    /** Shows each epoch's progress and stops at the test pause point {@code fit} after the first one. */
+    private static EpochListener epochs(Progress.Task fitting) {
+        return report -> {
+            fitting.advanceAndLog(report.epoch(), String.format(Locale.ROOT, "epoch %d objective %.6g", report.epoch(),
+                    report.objective()));
+            if (report.epoch() == 1) {
+                PausePoint.reached("fit");
+            }
+        };
+    }
+
+    private ModelHeader draft(TrainSettings chosen, Snapshot snapshot, float globalMean, TrainReport.Counts counts) {
         FitSettings f = chosen.fit();
-        return new ModelHeader(0, "training", f.rank(), f.coupling().label(), f.lambda(), f.trustWeight(), f.trustAlpha(),
-                chosen.scale().min(), chosen.scale().max(), globalMean, snapshot.numUsers(), snapshot.numItems(),
-                Instant.now(), null, MetricsJson.params(chosen), "{}", MetricsJson.counts(counts), null);
+        return new ModelHeader(0, ModelRegistry.TRAINING, f.rank(), f.coupling().label(), f.lambda(), f.trustWeight(),
+                f.trustAlpha(), chosen.scale().min(), chosen.scale().max(), globalMean, snapshot.numUsers(),
+                snapshot.numItems(), Instant.now(), null, MetricsJson.params(chosen, publish), "{}",
+                MetricsJson.counts(counts), null);
     }
 
     private static void requireFinite(FittedModel model) {
@@ -233,7 +363,10 @@ public final class TrainJob {
     }
 
     static String describe(Throwable e) {
-        String text = e.getClass().getSimpleName() + ": " + e.getMessage();
+        return clip(e.getClass().getSimpleName() + ": " + e.getMessage());
+    }
+
+    private static String clip(String text) {
         return text.length() <= MAX_REASON_CHARS ? text : text.substring(0, MAX_REASON_CHARS - 1) + "…";
     }
 

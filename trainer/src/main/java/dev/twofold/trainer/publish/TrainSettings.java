@@ -19,7 +19,6 @@ import dev.twofold.trainer.split.SplitMethod;
  * @param relevance        a held-out rating at or above this is relevant for ranking figures; also
  *                         the threshold of the popularity stored with the model
  * @param k                list length of the ranking figures
- * @param promoteTolerance the candidate is promoted when its held-out RMSE ≤ active RMSE × (1 + this)
  * @param solver           the solver of the model and its baselines
  * @param split            how held-out (and validation) ratings are chosen
  * @param patience         early stopping: epochs without a better validation RMSE before a fit stops;
@@ -27,14 +26,14 @@ import dev.twofold.trainer.split.SplitMethod;
  *                         {@code fit.epochs()} epochs and needs no validation split unless a sweep runs
  * @param sweepRanks       ranks to choose from on the validation split; empty to use {@code fit.rank()}
  * @param sweepLambdas     λ values to choose from; empty to use {@code fit.lambda()}
+ * @see PublishSettings what happens to the model once it is evaluated (promotion, gate, retention)
  */
 public record TrainSettings(FitSettings fit, double holdout, long splitSeed, RatingScale scale, float relevance, int k,
-        double promoteTolerance, SolverKind solver, SplitMethod split, int patience, int[] sweepRanks,
+        SolverKind solver, SplitMethod split, int patience, int[] sweepRanks,
         float[] sweepLambdas) {
 
     public static final double DEFAULT_HOLDOUT = PerUserHoldout.DEFAULT_FRACTION;
     public static final long DEFAULT_SPLIT_SEED = 20_260_101L;
-    public static final double DEFAULT_PROMOTE_TOLERANCE = 0.005;
     public static final double MIN_HOLDOUT = 0.01;
     public static final double MAX_HOLDOUT = 0.9;
     public static final SolverKind DEFAULT_SOLVER = SolverKind.ALS;
@@ -53,9 +52,6 @@ public record TrainSettings(FitSettings fit, double holdout, long splitSeed, Rat
         }
         if (scale == null) {
             throw new IllegalArgumentException("rating scale is required");
-        }
-        if (!(promoteTolerance >= 0 && promoteTolerance <= 1)) {
-            throw new IllegalArgumentException("promote tolerance " + promoteTolerance + " outside 0..1");
         }
         if (solver == null || split == null) {
             throw new IllegalArgumentException("solver and split are required");
@@ -79,43 +75,43 @@ public record TrainSettings(FitSettings fit, double holdout, long splitSeed, Rat
     /** Defaults: the default fit, 20% held out per user, ALS, early stopping with patience 2, no sweep. */
     public static TrainSettings defaults() {
         return new TrainSettings(FitSettings.defaults(), DEFAULT_HOLDOUT, DEFAULT_SPLIT_SEED, RatingScale.DEFAULT,
-                EvaluationSettings.DEFAULT_RELEVANCE, EvaluationSettings.DEFAULT_K, DEFAULT_PROMOTE_TOLERANCE,
+                EvaluationSettings.DEFAULT_RELEVANCE, EvaluationSettings.DEFAULT_K,
                 DEFAULT_SOLVER, DEFAULT_SPLIT, DEFAULT_PATIENCE, null, null);
     }
 
     public TrainSettings withFit(FitSettings value) {
-        return new TrainSettings(value, holdout, splitSeed, scale, relevance, k, promoteTolerance, solver, split, patience,
+        return new TrainSettings(value, holdout, splitSeed, scale, relevance, k, solver, split, patience,
                 sweepRanks, sweepLambdas);
     }
 
     public TrainSettings withHoldout(double value) {
-        return new TrainSettings(fit, value, splitSeed, scale, relevance, k, promoteTolerance, solver, split, patience,
+        return new TrainSettings(fit, value, splitSeed, scale, relevance, k, solver, split, patience,
                 sweepRanks, sweepLambdas);
     }
 
     public TrainSettings withRanking(float relevanceThreshold, int listLength) {
-        return new TrainSettings(fit, holdout, splitSeed, scale, relevanceThreshold, listLength, promoteTolerance, solver,
+        return new TrainSettings(fit, holdout, splitSeed, scale, relevanceThreshold, listLength, solver,
                 split, patience, sweepRanks, sweepLambdas);
     }
 
     public TrainSettings withSolver(SolverKind value) {
-        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, promoteTolerance, value, split, patience,
+        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, value, split, patience,
                 sweepRanks, sweepLambdas);
     }
 
     public TrainSettings withSplit(SplitMethod value) {
-        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, promoteTolerance, solver, value, patience,
+        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, solver, value, patience,
                 sweepRanks, sweepLambdas);
     }
 
     public TrainSettings withPatience(int value) {
-        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, promoteTolerance, solver, split, value,
+        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, solver, split, value,
                 sweepRanks, sweepLambdas);
     }
 
     /** Choose rank from {@code ranks} and λ from {@code lambdas} (either may be empty: keep the fit's). */
     public TrainSettings withSweep(int[] ranks, float[] lambdas) {
-        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, promoteTolerance, solver, split, patience,
+        return new TrainSettings(fit, holdout, splitSeed, scale, relevance, k, solver, split, patience,
                 ranks, lambdas);
     }
 

@@ -38,9 +38,11 @@ public final class Sweep {
      * @param validation the validation rows as a matrix (for precision@k over all unrated items)
      * @param base       fit settings of every point (rank and λ replaced; patience ≥ 1 advised)
      * @param evaluation k and relevance of precision@k
+     * @param ranking    also compute precision@k (ranks every unrated item for every validation user:
+     *                   O(users·items·k) per setting); without it precision is NaN
      */
     public static SweepResult run(TrainingData fitData, RatingMatrix validation, Solver solver, FitSettings base,
-            int[] ranks, float[] lambdas, EvaluationSettings evaluation, Progress progress) {
+            int[] ranks, float[] lambdas, EvaluationSettings evaluation, boolean ranking, Progress progress) {
         if (ranks.length == 0 || lambdas.length == 0) {
             throw new IllegalArgumentException("a sweep needs at least one rank and one lambda");
         }
@@ -58,10 +60,11 @@ public final class Sweep {
                 double seconds = (System.nanoTime() - t0) / 1e9;
                 int best = bestEpoch(model.history());
                 double rmse = fitData.validation().rmse(model);
-                double precision = evaluator.ranking(Scorer.of(model)).overall().precision();
+                double precision = ranking ? evaluator.ranking(Scorer.of(model)).overall().precision() : Double.NaN;
                 points.add(new SweepPoint(rank, lambda, rmse, precision, best, model.history().size(), seconds));
-                task.advance(points.size(), String.format(Locale.ROOT, "rank %d, lambda %s: validation RMSE %.4f", rank,
-                        SweepResult.number(lambda), rmse));
+                task.advanceAndLog(points.size(), String.format(Locale.ROOT,
+                        "rank %d, lambda %s: validation RMSE %.4f at epoch %d of %d", rank, SweepResult.number(lambda), rmse,
+                        best, model.history().size()));
             }
         }
         task.finish("");

@@ -120,7 +120,7 @@ public final class SweepCommand implements Callable<Integer> {
         }
         return Sweep.run(Sweep.withValidation(v.fit(), v.rows(), settings.scale().min(), settings.scale().max()),
                 v.rows(), settings.solver().create(), settings.fit().withPatience(settings.patience()),
-                settings.sweepRanks(), settings.sweepLambdas(), settings.evaluation(), progress);
+                settings.sweepRanks(), settings.sweepLambdas(), settings.evaluation(), true, progress);
     }
 
     TrainSettings settings() {

@@ -39,8 +39,9 @@ public record SweepResult(List<SweepPoint> points, int k) {
             }
         }
         String text = String.format(Locale.ROOT, "chose rank %d, lambda %s: lowest validation RMSE %.4f of %d settings "
-                + "(precision@%d %.4f, best at epoch %d)", best.rank(), number(best.lambda()), best.validationRmse(),
-                points.size(), k, best.precision(), best.bestEpoch());
+                + "(%sbest at epoch %d)", best.rank(), number(best.lambda()), best.validationRmse(), points.size(),
+                Double.isFinite(best.precision()) ? String.format(Locale.ROOT, "precision@%d %.4f, ", k, best.precision())
+                : "", best.bestEpoch());
         if (runnerUp != null) {
             text += String.format(Locale.ROOT, "; next best rank %d, lambda %s with %.4f", runnerUp.rank(),
                     number(runnerUp.lambda()), runnerUp.validationRmse());

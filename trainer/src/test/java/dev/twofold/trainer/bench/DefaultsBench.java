@@ -75,7 +75,7 @@ public final class DefaultsBench {
                 FitSettings base = FitSettings.defaults().withCoupling(coupling).withTrust(w, FitSettings.DEFAULT_TRUST_ALPHA)
                         .withEpochs(40).withPatience(a.integer("patience", 3)).withThreads(2);
                 SweepResult result = Sweep.run(data, validation, solver.create(), base, ranks, lambdas,
-                        EvaluationSettings.defaults(1f, 5f).withThreads(2), Progress.silent());
+                        EvaluationSettings.defaults(1f, 5f).withThreads(2), true, Progress.silent());
                 SweepPoint best = result.best();
                 FittedModel model = solver.create().fit(data, base.withRank(best.rank()).withLambda(best.lambda())
                         .withEpochs(best.bestEpoch()).withPatience(0));

@@ -51,6 +51,8 @@ public final class EpochBench {
         RatingMatrix r = data.ratings();
         System.out.printf(Locale.ROOT, "data: %,d ratings, %,d users, %,d items, %,d trust edges%n", r.nnz(),
                 r.numUsers(), r.numItems(), data.trust().numEdges());
+        // a short fit first, so the first coupling measured is not charged for compiling the code
+        solver.create().fit(data, FitSettings.defaults().withRank(rank).withEpochs(3).withThreads(threads));
         for (String name : a.text("couplings", "none,shared,neighbour").split(",")) {
             Coupling coupling = Coupling.parse(name);
             FitSettings s = FitSettings.defaults().withRank(rank).withCoupling(coupling)

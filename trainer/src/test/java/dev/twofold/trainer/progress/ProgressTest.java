@@ -53,6 +53,21 @@ class ProgressTest {
     }
 
     @Test
+    void steps_worth_a_line_each_are_always_logged() {
+        StringWriter text = new StringWriter();
+        AtomicLong now = new AtomicLong();
+        Progress progress = new Progress(new PrintWriter(text), false, now::get, () -> WALL, "train");
+        Progress.Task fit = progress.start("fit", 3);
+        now.set(SECOND);
+        fit.advanceAndLog(1, "epoch 1 objective 10");
+        now.set(2 * SECOND);
+        fit.advanceAndLog(2, "epoch 2 objective 9");
+        String[] lines = text.toString().split("\n");
+        assertEquals(2, lines.length, text.toString());
+        assertTrue(lines[1].endsWith("fit 2/3 (66%), 0:02 elapsed, ETA 0:01  epoch 2 objective 9"), lines[1]);
+    }
+
+    @Test
     void durations_read_as_minutes_and_seconds_or_hours() {
         assertEquals("0:00", Progress.duration(0.2));
         assertEquals("1:05", Progress.duration(65));

@@ -36,7 +36,7 @@ class SweepTest {
         TrainingData data = Sweep.withValidation(new TrainingData(fit, TrustGraph.of(m, c.truster(), c.trustee(),
                 c.trustWeight()), null), validation, 1f, 5f);
         SweepResult result = Sweep.run(data, validation, new AlsSolver(), FitSettings.defaults().withEpochs(12)
-                .withPatience(2), new int[] {2, 6}, new float[] {0.04f, 2f}, EvaluationSettings.defaults(1f, 5f),
+                .withPatience(2), new int[] {2, 6}, new float[] {0.04f, 2f}, EvaluationSettings.defaults(1f, 5f), true,
                 Progress.silent());
         assertEquals(4, result.points().size());
         SweepPoint heavy = result.points().get(1);
