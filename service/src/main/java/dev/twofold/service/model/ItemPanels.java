@@ -20,12 +20,14 @@ public final class ItemPanels {
     public static final int WIDTH = 16;
 
     private final float[] data;
+    private final float[] rows;
     private final int rank;
     private final int items;
     private final int panels;
 
-    private ItemPanels(float[] data, int rank, int items, int panels) {
+    private ItemPanels(float[] data, float[] rows, int rank, int items, int panels) {
         this.data = data;
+        this.rows = rows;
         this.rank = rank;
         this.items = items;
         this.panels = panels;
@@ -46,12 +48,17 @@ public final class ItemPanels {
                 data[base + f * WIDTH] = Q[row + f];
             }
         }
-        return new ItemPanels(data, rank, items, panels);
+        return new ItemPanels(data, Q, rank, items, panels);
     }
 
     /** The panel array (see the class comment for the layout). Shared, never modify. */
     public float[] data() {
         return data;
+    }
+
+    /** The row-major Q the panels were built from (kept, not copied). Shared, never modify. */
+    public float[] rows() {
+        return rows;
     }
 
     public int rank() {

@@ -1,20 +1,23 @@
 package dev.twofold.service.scoring;
 
+import dev.twofold.service.model.ItemPanels;
+
 /**
  * Inner products of a few query vectors with a run of item panels ({@link
  * dev.twofold.service.model.ItemPanels}): the one hot loop of ranking. For users {@code u < users}
  * and items j of panels {@code fromPanel ≤ p < toPanel}:
  *
  * <pre>
- *   out[u·S + (p − fromPanel)·W + j] = Σ_f x[u·k + f] · panels[p·k·W + f·W + j]      (S = (toPanel − fromPanel)·W)
+ *   out[u·S + (p − fromPanel)·W + j] = Σ_f x[u·k + f] · q_{p·W + j, f}      (S = (toPanel − fromPanel)·W)
  * </pre>
  *
- * Cost: users·(toPanel − fromPanel)·W·k multiply-adds, reading the panels once for every group of
- * users an implementation scores together. Implementations are stateless and thread-safe.
+ * and 0 for the padding items past the last. Cost: users·(toPanel − fromPanel)·W·k multiply-adds,
+ * reading Q once for every group of users an implementation scores together. Implementations are
+ * stateless and thread-safe.
  */
 interface BlockKernel {
 
-    void dot(float[] panels, int k, int fromPanel, int toPanel, float[] x, int users, float[] out);
+    void dot(ItemPanels panels, int fromPanel, int toPanel, float[] x, int users, float[] out);
 
     /**
      * The items whose score beats a threshold: every i in {@code [first, last)} with

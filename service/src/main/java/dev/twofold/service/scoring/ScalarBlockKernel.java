@@ -3,31 +3,30 @@ package dev.twofold.service.scoring;
 import dev.twofold.service.model.ItemPanels;
 
 /**
- * The portable {@link BlockKernel}: plain Java loops, one user at a time, a panel's
- * {@value ItemPanels#WIDTH} sums kept in a small array. Used when the JVM was started without
- * {@code --add-modules jdk.incubator.vector}; several times slower than {@link VectorBlockKernel}.
+ * The portable {@link BlockKernel}: plain Java, one user at a time, one dot product per item over
+ * the row-major Q (four interleaved sums, see {@link ScoreKernel}). Used when the JVM was started
+ * without {@code --add-modules jdk.incubator.vector}; several times slower than
+ * {@link VectorBlockKernel}.
  */
 final class ScalarBlockKernel implements BlockKernel {
 
     private static final int W = ItemPanels.WIDTH;
 
+    /** Row by row over the row-major Q (strided panel reads would be slower without SIMD). */
     @Override
-    public void dot(float[] panels, int k, int fromPanel, int toPanel, float[] x, int users, float[] out) {
+    public void dot(ItemPanels panels, int fromPanel, int toPanel, float[] x, int users, float[] out) {
+        int k = panels.rank();
+        float[] rows = panels.rows();
         int stride = (toPanel - fromPanel) * W;
-        float[] acc = new float[W];
+        int first = fromPanel * W;
+        int last = Math.min(toPanel * W, panels.items());
         for (int u = 0; u < users; u++) {
-            int xo = u * k;
-            for (int p = fromPanel; p < toPanel; p++) {
-                java.util.Arrays.fill(acc, 0f);
-                int q = p * k * W;
-                for (int f = 0; f < k; f++) {
-                    float xf = x[xo + f];
-                    int row = q + f * W;
-                    for (int j = 0; j < W; j++) {
-                        acc[j] += xf * panels[row + j];
-                    }
-                }
-                System.arraycopy(acc, 0, out, u * stride + (p - fromPanel) * W, W);
+            int o = u * stride - first;
+            for (int i = first; i < last; i++) {
+                out[o + i] = ScoreKernel.dot(x, u * k, rows, i * k, k);
+            }
+            for (int i = last; i < toPanel * W; i++) {
+                out[o + i] = 0f;
             }
         }
     }

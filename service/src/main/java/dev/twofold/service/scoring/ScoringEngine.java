@@ -145,6 +145,9 @@ public final class ScoringEngine {
             if (size == 0) {
                 return scored;
             }
+            if (queued.get() >= EXTRA_COMBINER_BACKLOG && !idle.isEmpty()) {
+                handOff(); // enough left for another batch: let a waiter score it on another core
+            }
             scored = true;
             try {
                 score(s, size);
@@ -213,7 +216,7 @@ public final class ScoringEngine {
         int numPanels = panels.panels();
         for (int from = 0; from < numPanels; from += BLOCK_PANELS) {
             int to = Math.min(from + BLOCK_PANELS, numPanels);
-            kernel.dot(panels.data(), k, from, to, s.x, size, s.out);
+            kernel.dot(panels, from, to, s.x, size, s.out);
             int stride = (to - from) * ItemPanels.WIDTH;
             int first = from * ItemPanels.WIDTH;
             int last = Math.min(to * ItemPanels.WIDTH, n);

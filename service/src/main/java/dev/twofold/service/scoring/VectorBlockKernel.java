@@ -27,7 +27,9 @@ final class VectorBlockKernel implements BlockKernel {
     }
 
     @Override
-    public void dot(float[] panels, int k, int fromPanel, int toPanel, float[] x, int users, float[] out) {
+    public void dot(ItemPanels itemPanels, int fromPanel, int toPanel, float[] x, int users, float[] out) {
+        float[] panels = itemPanels.data();
+        int k = itemPanels.rank();
         int stride = (toPanel - fromPanel) * W;
         int u = 0;
         for (; u + 4 <= users; u += 4) {

@@ -38,7 +38,8 @@ class BlockKernelTest {
             int stride = (to - from) * ItemPanels.WIDTH;
             for (BlockKernel kernel : kernels) {
                 float[] out = new float[users * stride];
-                kernel.dot(panels.data(), k, from, to, x, users, out);
+                java.util.Arrays.fill(out, Float.NaN);
+                kernel.dot(panels, from, to, x, users, out);
                 for (int u = 0; u < users; u++) {
                     for (int j = 0; j < stride; j++) {
                         int item = from * ItemPanels.WIDTH + j;
