@@ -21,8 +21,8 @@ import java.util.Map;
 /**
  * The API keys in PostgreSQL. A key is {@value #PREFIX} followed by 43 base64url characters (256
  * random bits from {@link SecureRandom}); it is shown once, when created, and only its SHA-256
- * hash is stored. Revoking a key sends {@code NOTIFY} on {@value #NOTIFY_CHANNEL} so running
- * services drop it at once.
+ * hash is stored. Creating and revoking a key send {@code NOTIFY} on {@value #NOTIFY_CHANNEL} (in the
+ * same transaction) so running services take up a new key and drop a revoked one at once.
  */
 public final class ApiKeys {
 
@@ -60,8 +60,9 @@ public final class ApiKeys {
     public Created create(String name, KeyRole role) {
         checkName(name);
         String key = generate();
-        String sql = "insert into api_keys (name, role, key_hash, shown) values (?, ?, ?, ?)"
-                + " on conflict do nothing returning id, created_at";
+        String sql = "with k as (insert into api_keys (name, role, key_hash, shown) values (?, ?, ?, ?)"
+                + " on conflict do nothing returning id, created_at)"
+                + " select id, created_at, pg_notify('" + NOTIFY_CHANNEL + "', 'created') from k";
         try (Connection c = database.dataSource().getConnection(); PreparedStatement ps = c.prepareStatement(sql)) {
             ps.setString(1, name);
             ps.setString(2, role.label());

@@ -27,7 +27,9 @@ import org.slf4j.LoggerFactory;
 
 /**
  * An open, migrated Twofold database: a HikariCP pool over an external PostgreSQL or over the
- * embedded server. {@link #close()} closes the pool and, for the embedded server, stops it when no
+ * embedded server. A long-running process that must start while an external server is down opens
+ * it with {@link #openDeferred}: the pool then connects when the server answers, and
+ * {@link #ensureSchema()} migrates once it does. {@link #close()} closes the pool and, for the embedded server, stops it when no
  * other client is still connected (whichever Twofold process closes last turns the server off;
  * while others are connected it is left running for them). Safe to close twice.
  */
@@ -50,6 +52,10 @@ public final class Database implements AutoCloseable {
     static final long OTHER_CLIENTS_POLL_MS = 100;
     /** Connections kept open while idle: at least one, so a joined embedded server sees this process as a client. */
     public static final int MIN_IDLE_CONNECTIONS = 2;
+    /** TCP connect time-out of a {@link #probe()}: short, since a probe only asks whether the server answers. */
+    public static final int PROBE_CONNECT_TIMEOUT_S = 2;
+    /** Login and query time-out of a {@link #probe()}. */
+    public static final int PROBE_QUERY_TIMEOUT_S = 3;
 
     private static final Logger LOG = LoggerFactory.getLogger(Database.class);
     private static final AtomicInteger POOLS = new AtomicInteger();
@@ -61,6 +67,7 @@ public final class Database implements AutoCloseable {
     private final String jdbcUrl;
     private final List<Runnable> closeActions = new ArrayList<>();
     private boolean closed;
+    private volatile boolean migrated;
 
     private Database(HikariDataSource pool, EmbeddedServer server, String applicationName, String description, String jdbcUrl) {
         this.pool = pool;
@@ -86,11 +93,32 @@ public final class Database implements AutoCloseable {
                     applicationName, settings.poolSize()));
         } else {
             String where = describe(settings.url(), false);
-            db = new Database(pool(settings.url(), settings.user(), settings.password(), settings.poolSize(), applicationName, where),
-                    null, applicationName, where, settings.url());
+            db = new Database(pool(settings.url(), settings.user(), settings.password(), settings.poolSize(), applicationName, where,
+                    true), null, applicationName, where, settings.url());
         }
-        db.migrate();
+        db.migrateOrClose();
         LOG.info("connected to {}", db.description);
+        return db;
+    }
+
+    /**
+     * Like {@link #open}, but an external server need not answer yet: the pool starts without a
+     * connection and fills itself once the server answers; until then borrowing a connection fails
+     * after {@link #BORROW_TIMEOUT_MS}. Call {@link #probe()} to ask whether it answers now and
+     * {@link #ensureSchema()} before the first use. The embedded server runs in this machine, so it
+     * is started or joined (and migrated) at once, as by {@link #open}.
+     *
+     * @throws DatabaseUnavailableException when the embedded server cannot be started or joined
+     */
+    public static Database openDeferred(DatabaseSettings settings) {
+        if (settings.embedded()) {
+            return open(settings);
+        }
+        String applicationName = "twofold-" + ProcessHandle.current().pid() + "-" + POOLS.incrementAndGet();
+        String where = describe(settings.url(), false);
+        Database db = new Database(pool(settings.url(), settings.user(), settings.password(), settings.poolSize(),
+                applicationName, where, false), null, applicationName, where, settings.url());
+        LOG.info("will use {} once it answers", db.description);
         return db;
     }
 
@@ -99,8 +127,59 @@ public final class Database implements AutoCloseable {
         String url = server.jdbcUrl(EmbeddedServer.DATABASE);
         String where = "embedded PostgreSQL 127.0.0.1:" + server.port() + "/" + EmbeddedServer.DATABASE + " (data "
                 + server.dataDir() + ", " + (server.startedHere() ? "started by this process" : "joined") + ")";
-        HikariDataSource pool = pool(url, server.user(), server.password(), poolSize, applicationName, where);
+        HikariDataSource pool = pool(url, server.user(), server.password(), poolSize, applicationName, where, true);
         return new Database(pool, server, applicationName, where, url);
+    }
+
+    /**
+     * Whether the server answers right now: one connection outside the pool, {@code select 1}, and
+     * close, all within a few seconds ({@link #PROBE_CONNECT_TIMEOUT_S}, {@link #PROBE_QUERY_TIMEOUT_S})
+     * instead of the pool's borrow time-out.
+     *
+     * @throws DatabaseUnavailableException saying why not
+     */
+    public void probe() {
+        Properties props = new Properties();
+        if (pool.getUsername() != null) {
+            props.setProperty("user", pool.getUsername());
+        }
+        if (pool.getPassword() != null) {
+            props.setProperty("password", pool.getPassword());
+        }
+        props.setProperty("ApplicationName", applicationName);
+        props.setProperty("connectTimeout", Integer.toString(PROBE_CONNECT_TIMEOUT_S));
+        props.setProperty("loginTimeout", Integer.toString(PROBE_QUERY_TIMEOUT_S));
+        props.setProperty("socketTimeout", Integer.toString(PROBE_QUERY_TIMEOUT_S));
+        try (Connection c = new Driver().connect(pool.getJdbcUrl(), props)) {
+            if (c == null) {
+                throw new DatabaseUnavailableException(description + " has a URL the PostgreSQL driver does not accept", null);
+            }
+            try (PreparedStatement ps = c.prepareStatement("select 1")) {
+                ps.setQueryTimeout(PROBE_QUERY_TIMEOUT_S);
+                ps.executeQuery().close();
+            }
+        } catch (SQLException e) {
+            throw new DatabaseUnavailableException(description + " does not answer: " + e.getMessage(), e);
+        }
+    }
+
+    /**
+     * Applies pending migrations unless this database has done so already (every {@link #open}ed
+     * one has); safe to call again after a failure.
+     *
+     * @throws DatabaseUnavailableException when the server cannot be reached
+     * @throws DatabaseFailureException when the schema cannot be migrated
+     */
+    public void ensureSchema() {
+        if (migrated) {
+            return;
+        }
+        synchronized (this) {
+            if (!migrated) {
+                migrate();
+                migrated = true;
+            }
+        }
     }
 
     public DataSource dataSource() {
@@ -207,6 +286,15 @@ public final class Database implements AutoCloseable {
         }
     }
 
+    private void migrateOrClose() {
+        try {
+            ensureSchema();
+        } catch (RuntimeException e) {
+            close();
+            throw e;
+        }
+    }
+
     private void migrate() {
         try {
             Flyway.configure(Database.class.getClassLoader())
@@ -215,7 +303,6 @@ public final class Database implements AutoCloseable {
                     .load()
                     .migrate();
         } catch (FlywayException e) {
-            close();
             SQLException sql = findSql(e);
             if (sql != null && SqlFailures.isConnectionFailure(sql)) {
                 throw new DatabaseUnavailableException("lost the connection to " + description + " while migrating the schema: "
@@ -223,13 +310,12 @@ public final class Database implements AutoCloseable {
             }
             throw new DatabaseFailureException("migrating the schema of " + description + " failed: " + e.getMessage()
                     + "; the database may have been changed by hand or by a newer Twofold", e);
-        } catch (RuntimeException e) {
-            close();
-            throw e;
         }
     }
 
-    private static HikariDataSource pool(String url, String user, String password, int size, String applicationName, String where) {
+    /** @param failFast try one connection at once and fail with a clear message, else start empty and connect later */
+    private static HikariDataSource pool(String url, String user, String password, int size, String applicationName, String where,
+            boolean failFast) {
         HikariConfig config = new HikariConfig();
         config.setPoolName(applicationName);
         config.setJdbcUrl(url);
@@ -241,7 +327,8 @@ public final class Database implements AutoCloseable {
         config.setValidationTimeout(VALIDATION_TIMEOUT_MS);
         config.setIdleTimeout(IDLE_TIMEOUT_MS);
         config.setMaxLifetime(MAX_LIFETIME_MS);
-        config.setInitializationFailTimeout(1); // try once at start and fail fast with a clear message
+        // 1: try once at start and fail fast with a clear message; -1: start empty, connect when the server answers
+        config.setInitializationFailTimeout(failFast ? 1 : -1);
         config.addDataSourceProperty("ApplicationName", applicationName);
         config.addDataSourceProperty("connectTimeout", Integer.toString(CONNECT_TIMEOUT_S));
         config.addDataSourceProperty("loginTimeout", Integer.toString(LOGIN_TIMEOUT_S));
