@@ -111,6 +111,23 @@ class ApiKeysTest {
     }
 
     @Test
+    void creating_notifies_services_and_a_refused_name_does_not() throws Exception {
+        try (Connection listener = database.dataSource().getConnection()) {
+            try (Statement s = listener.createStatement()) {
+                s.execute("listen " + ApiKeys.NOTIFY_CHANNEL);
+            }
+            PGConnection pg = listener.unwrap(PGConnection.class);
+            keys.create("announced", KeyRole.WRITE);
+            PGNotification[] notes = pg.getNotifications(5_000);
+            assertNotNull(notes);
+            assertEquals("created", notes[0].getParameter());
+            assertThrows(BadInputException.class, () -> keys.create("announced", KeyRole.READ));
+            PGNotification[] none = pg.getNotifications(200);
+            assertTrue(none == null || none.length == 0, "nothing was created, nothing is announced");
+        }
+    }
+
+    @Test
     void use_is_recorded_and_never_moves_back() {
         ApiKeys.Created created = keys.create("used", KeyRole.READ);
         assertNull(created.stored().lastUsedAt());
