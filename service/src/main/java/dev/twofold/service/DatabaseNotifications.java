@@ -1,7 +1,10 @@
 package dev.twofold.service;
 
+import dev.twofold.db.DatabaseUnavailableException;
+import dev.twofold.db.access.ApiKeys;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.ingest.RatingWriter;
+import dev.twofold.db.internal.SqlFailures;
 import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.service.fresh.Intake;
 import java.sql.Connection;
@@ -19,14 +22,16 @@ import org.slf4j.LoggerFactory;
  * Hears what other processes announce as it commits: holds one connection of the pool in
  * {@code LISTEN} on {@value ModelRegistry#NOTIFY_CHANNEL} (the registry sends the new model id on
  * every promotion and rollback), on {@value RatingWriter#ERASURE_CHANNEL} (a user was erased;
- * the payload is their id) and on {@value Intake#WRITES_CHANNEL} (users wrote through some
- * service). Promotions call {@code onPromotion} once per batch of notifications, and once after
- * every (re)connect, since a promotion may have happened while it was not listening; erasures
- * call {@code onErasure} with the id; writes call {@code onWrite} with the payload.
+ * the payload is their id), on {@value Intake#WRITES_CHANNEL} (users wrote through some
+ * service) and on {@value ApiKeys#NOTIFY_CHANNEL} (a key was created or revoked). Promotions call
+ * {@code onPromotion} and key changes {@code onKeys} once per batch of notifications, and both
+ * once after every (re)connect, since something may have changed while it was not listening;
+ * erasures call {@code onErasure} with the id; writes call {@code onWrite} with the payload.
  *
- * <p>If the connection breaks it reconnects every {@code retry}; the watcher's polling covers the
- * gap. Before the connection goes back to the pool it stops listening ({@code UNLISTEN *}), so no
- * other user of the pool collects notifications.
+ * <p>If the connection breaks it reports the database {@code lost} (when the failure is one of
+ * reaching it) and reconnects every {@code retry}; the watcher's polling covers the gap. Before
+ * the connection goes back to the pool it stops listening ({@code UNLISTEN *}), so no other user
+ * of the pool collects notifications.
  */
 final class DatabaseNotifications implements AutoCloseable {
 
@@ -40,17 +45,21 @@ final class DatabaseNotifications implements AutoCloseable {
     private final Runnable onPromotion;
     private final Consumer<String> onErasure;
     private final Consumer<String> onWrite;
+    private final Runnable onKeys;
+    private final Consumer<String> lost;
     private final Duration retry;
     private final Thread thread;
     private volatile boolean closed;
     private String lastProblem;
 
     DatabaseNotifications(Database database, Runnable onPromotion, Consumer<String> onErasure,
-            Consumer<String> onWrite, Duration retry) {
+            Consumer<String> onWrite, Runnable onKeys, Consumer<String> lost, Duration retry) {
         this.database = database;
         this.onPromotion = onPromotion;
         this.onErasure = onErasure;
         this.onWrite = onWrite;
+        this.onKeys = onKeys;
+        this.lost = lost;
         this.retry = retry;
         this.thread = new Thread(this::run, "twofold-notifications");
         this.thread.setDaemon(true);
@@ -76,8 +85,12 @@ final class DatabaseNotifications implements AutoCloseable {
                 if (closed) {
                     return;
                 }
-                String problem = "not listening for promotions, erasures and writes (" + e.getMessage() + "); retrying every "
-                        + retry.toMillis() + " ms, polling meanwhile";
+                if (e instanceof DatabaseUnavailableException
+                        || e instanceof SQLException sql && SqlFailures.isConnectionFailure(sql)) {
+                    lost.accept(e.getMessage());
+                }
+                String problem = "not listening for promotions, erasures, writes and key changes (" + e.getMessage()
+                        + "); retrying every " + retry.toMillis() + " ms, polling meanwhile";
                 if (!Objects.equals(problem, lastProblem)) {
                     LOG.warn(problem);
                     lastProblem = problem;
@@ -93,13 +106,15 @@ final class DatabaseNotifications implements AutoCloseable {
             s.execute("LISTEN " + ModelRegistry.NOTIFY_CHANNEL);
             s.execute("LISTEN " + RatingWriter.ERASURE_CHANNEL);
             s.execute("LISTEN " + Intake.WRITES_CHANNEL);
+            s.execute("LISTEN " + ApiKeys.NOTIFY_CHANNEL);
         }
         if (lastProblem != null) {
-            LOG.info("listening for promotions, erasures and writes again");
+            LOG.info("listening for promotions, erasures, writes and key changes again");
             lastProblem = null;
         }
         PGConnection pg = c.unwrap(PGConnection.class);
         onPromotion.run();
+        onKeys.run();
         long probeAt = System.nanoTime() + PROBE_INTERVAL_MS * 1_000_000L;
         while (!closed) {
             if (System.nanoTime() - probeAt > 0) {
@@ -114,17 +129,23 @@ final class DatabaseNotifications implements AutoCloseable {
                 continue;
             }
             boolean promoted = false;
+            boolean keys = false;
             for (PGNotification note : notes) {
                 if (RatingWriter.ERASURE_CHANNEL.equals(note.getName())) {
                     onErasure.accept(note.getParameter());
                 } else if (Intake.WRITES_CHANNEL.equals(note.getName())) {
                     onWrite.accept(note.getParameter());
+                } else if (ApiKeys.NOTIFY_CHANNEL.equals(note.getName())) {
+                    keys = true;
                 } else {
                     promoted = true;
                 }
             }
             if (promoted) {
                 onPromotion.run();
+            }
+            if (keys) {
+                onKeys.run();
             }
         }
     }

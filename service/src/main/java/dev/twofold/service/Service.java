@@ -1,7 +1,10 @@
 package dev.twofold.service;
 
+import dev.twofold.db.access.ApiKeys;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelRegistry;
+import dev.twofold.service.access.KeyFollower;
+import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.fresh.Intake;
 import dev.twofold.service.fresh.LiveModel;
 import dev.twofold.service.fresh.LiveModels;
@@ -32,11 +35,20 @@ import org.slf4j.LoggerFactory;
  * {@code /v1} reads and {@code /health/ready} answer 503.
  *
  * <p>With a database, the service also takes ratings and trust edges (committed, then folded in),
- * offers the model admin routes, and follows the active model: at {@link #start()} it loads the
- * active model if there is one, then switches whenever a promotion or rollback is announced
- * (PostgreSQL {@code LISTEN}) or found by polling every {@link ServiceSettings#modelPollInterval()};
- * a user erased by any process is dropped from memory when the erasure is announced, and users
- * who wrote through another service on the same database are folded in here too.
+ * erases users, offers the model admin routes, and follows the active model: at {@link #start()}
+ * it loads the active model if there is one, then switches whenever a promotion or rollback is
+ * announced (PostgreSQL {@code LISTEN}) or found by polling every {@link
+ * ServiceSettings#modelPollInterval()}; a user erased by any process is dropped from memory when
+ * the erasure is announced, and users who wrote through another service on the same database are
+ * folded in here too. With a {@link KeyRing} as its access policy it reads the API keys at start
+ * and follows them the same way ({@link KeyFollower}).
+ *
+ * <p>The database may be down when the service starts or go away while it runs ({@link
+ * DatabaseLink}): the service binds and answers anyway, not ready until it has read the keys and
+ * loaded a model, retries with exponential backoff, and then catches up by itself. While the
+ * database is away, answers from memory (recommendations, predictions, similar items, key checks)
+ * go on, and writes are refused with 503 and {@code Retry-After}; nothing is acknowledged before it
+ * is committed.
  *
  * <p>Lifecycle: construct, {@link #start()} once, {@link #close()} (safe to call again, and
  * without a start). Closing stops following models, stops accepting connections and lets
@@ -53,6 +65,8 @@ public final class Service implements AutoCloseable {
     private final Ranker ranker = new Ranker();
     private final ModelWatcher watcher;
     private final DatabaseNotifications listener;
+    private final KeyFollower keys;
+    private final DatabaseLink link;
     private final HttpApi http;
     private final ExecutorService refresher = Executors.newSingleThreadExecutor(task -> {
         Thread t = new Thread(task, "twofold-refresh");
@@ -64,6 +78,8 @@ public final class Service implements AutoCloseable {
     private final Object lifecycle = new Object();
     private boolean started;
     private boolean closed;
+    /** Guarded by lifecycle: whether the model watcher, the listener and the key follower run. */
+    private boolean following;
 
     /** A service without a database that admits every request: models are {@link #install}ed by the caller. */
     public Service(ServiceSettings settings) {
@@ -90,7 +106,10 @@ public final class Service implements AutoCloseable {
     }
 
     /**
-     * @param database where data is written and models are administered, or null for none
+     * @param access   who may call the {@code /v1} routes; a {@link KeyRing} is kept in step with the
+     *                 database's API keys (without a database, the caller fills it)
+     * @param database where data is written and models are administered, or null for none; it may
+     *                 be unreachable for now ({@link Database#openDeferred})
      * @param models   where the active model is found and loaded, or null to install models by hand
      * @param ops      the operator's view (metrics, request log, dashboard), which the caller closes
      *                 after the service; null for one of the service's own, without retrain history
@@ -104,20 +123,31 @@ public final class Service implements AutoCloseable {
         this.live.onInstall((model, swapNanos) -> this.ops.modelInstalled(model.header(), swapNanos));
         this.live.onFoldIn(this.ops.metrics()::foldIn);
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
+        KeyRing ring = access instanceof KeyRing r ? r : null;
+        if (ring != null) {
+            ring.onRefusal(refusal -> this.ops.metrics().authRefused(refusal.label()));
+        }
+        this.link = database == null ? null : new DatabaseLink(database, this::databaseReachable);
+        this.keys = database == null || ring == null ? null
+                : new KeyFollower(ring, new ApiKeys(database), settings.modelPollInterval(), link::lost);
         Intake intake = database == null ? null : new Intake(database, live, origin());
         this.listener = database == null ? null : new DatabaseNotifications(database,
                 watcher == null ? () -> { } : watcher::checkSoon, live::forget, payload -> refreshLater(intake, payload),
-                settings.modelPollInterval());
+                keys == null ? () -> { } : keys::reloadSoon, link::lost, settings.modelPollInterval());
         RegistryControl control = database == null ? null
                 : new RegistryControl(new ModelRegistry(database), watcher == null ? () -> { } : watcher::checkSoon);
-        this.http = new HttpApi(live::current, ranker, intake, control, access, this.ops.observer(), this.ops::configure,
-                settings.stopTimeout(), settings.retryAfterSeconds());
+        if (link != null) {
+            this.ops.metrics().trackDatabase(link::reachable);
+        }
+        this.http = new HttpApi(live::current, ranker, intake, control, access, link, this.ops.observer(),
+                this.ops::configure, settings.stopTimeout(), settings.retryAfterSeconds());
     }
 
     /**
-     * Loads the active model when the service follows one (a failure is logged; the service then
-     * starts not ready and keeps trying), binds {@link ServiceSettings#host()}:{@link
-     * ServiceSettings#port()}, starts serving, then starts following promotions.
+     * With a database, makes a first attempt to reach it: read the API keys and load the active
+     * model (a failure is logged; the service then starts not ready and keeps trying in the
+     * background, see {@link DatabaseLink}). Then binds {@link ServiceSettings#host()}:{@link
+     * ServiceSettings#port()} and starts serving.
      *
      * @return the bound port (the chosen one when the setting is 0)
      * @throws ServiceStartException when the address cannot be bound
@@ -129,8 +159,8 @@ public final class Service implements AutoCloseable {
                 throw new IllegalStateException(closed ? "the service is closed" : "the service is already started");
             }
             started = true;
-            if (watcher != null) {
-                watcher.check();
+            if (link != null) {
+                link.connect();
             }
             int port;
             try {
@@ -146,14 +176,41 @@ public final class Service implements AutoCloseable {
                 LOG.warn("scoring with {}; ranking is several times slower without the SIMD kernel",
                         ranker.engine().description());
             }
+            ops.start();
+            return port;
+        }
+    }
+
+    /**
+     * The database answers (at start or after an outage): read the keys (a failure fails the
+     * attempt), then load or check the active model; the first time, start following promotions,
+     * erasures, writes and key changes.
+     */
+    private void databaseReachable() {
+        if (keys != null) {
+            keys.reload();
+        }
+        synchronized (lifecycle) {
+            if (closed) {
+                return;
+            }
+            if (following) {
+                if (watcher != null) {
+                    watcher.checkSoon();
+                }
+                return;
+            }
+            following = true;
             if (watcher != null) {
+                watcher.check();
                 watcher.start();
             }
             if (listener != null) {
                 listener.start();
             }
-            ops.start();
-            return port;
+            if (keys != null) {
+                keys.start();
+            }
         }
     }
 
@@ -204,31 +261,40 @@ public final class Service implements AutoCloseable {
     /** Stops gracefully; later calls do nothing. */
     @Override
     public void close() {
+        boolean wasStarted;
         synchronized (lifecycle) {
             if (closed) {
                 return;
             }
             closed = true;
-            if (listener != null) {
-                listener.close();
+            wasStarted = started;
+        }
+        // outside the lock: a reconnect attempt in progress may be waiting for it
+        if (link != null) {
+            link.close();
+        }
+        if (listener != null) {
+            listener.close();
+        }
+        if (watcher != null) {
+            watcher.close();
+        }
+        if (keys != null) {
+            keys.close();
+        }
+        refresher.shutdownNow();
+        try {
+            if (!refresher.awaitTermination(CLOSE_WAIT_MS, TimeUnit.MILLISECONDS)) {
+                LOG.warn("folding in announced writes was still running {} ms after stop was asked", CLOSE_WAIT_MS);
             }
-            if (watcher != null) {
-                watcher.close();
-            }
-            refresher.shutdownNow();
-            try {
-                if (!refresher.awaitTermination(CLOSE_WAIT_MS, TimeUnit.MILLISECONDS)) {
-                    LOG.warn("folding in announced writes was still running {} ms after stop was asked", CLOSE_WAIT_MS);
-                }
-            } catch (InterruptedException e) {
-                Thread.currentThread().interrupt();
-            }
-            if (started) {
-                http.stop();
-            }
-            if (ownsOps) {
-                ops.close();
-            }
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+        if (wasStarted) {
+            http.stop();
+        }
+        if (ownsOps) {
+            ops.close();
         }
     }
 }

@@ -17,13 +17,19 @@ import java.util.Map;
  *                          model (rounded up to whole seconds)
  * @param freshUsers        most users kept folded in since the model was loaded
  *                          ({@code TWOFOLD_FRESH_USERS}, default {@value #DEFAULT_FRESH_USERS})
+ * @param openAccess        admit {@code /v1} requests without an API key ({@code TWOFOLD_ACCESS=open});
+ *                          for local development only, so only with a loopback {@code host}. The
+ *                          default ({@code TWOFOLD_ACCESS=keys}) checks every request's key.
  */
 public record ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval,
-        int freshUsers) {
+        int freshUsers, boolean openAccess) {
 
     public static final String HOST_VARIABLE = "TWOFOLD_HTTP_HOST";
     public static final String PORT_VARIABLE = "TWOFOLD_HTTP_PORT";
     public static final String FRESH_USERS_VARIABLE = "TWOFOLD_FRESH_USERS";
+    public static final String ACCESS_VARIABLE = "TWOFOLD_ACCESS";
+    public static final String ACCESS_KEYS = "keys";
+    public static final String ACCESS_OPEN = "open";
     public static final String DEFAULT_HOST = "0.0.0.0";
     public static final int DEFAULT_PORT = 8080;
     public static final int MAX_PORT = 65_535;
@@ -52,21 +58,44 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
             throw new ConfigurationException(FRESH_USERS_VARIABLE + "=" + freshUsers + " is outside 0.."
                     + MAX_FRESH_USERS);
         }
+        if (openAccess && !loopback(host)) {
+            throw new ConfigurationException(ACCESS_VARIABLE + "=" + ACCESS_OPEN + " admits every request without an API"
+                    + " key and is for local development only, so it needs " + HOST_VARIABLE + "=127.0.0.1 (or ::1,"
+                    + " localhost); " + HOST_VARIABLE + " is '" + host + "'. Unset " + ACCESS_VARIABLE
+                    + " to check API keys");
+        }
     }
 
-    /** Settings with the default number of fresh users. */
+    /** Settings that check API keys, with the default number of fresh users. */
     public ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval) {
         this(host, port, stopTimeout, modelPollInterval, DEFAULT_FRESH_USERS);
     }
 
+    /** Settings that check API keys. */
+    public ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval, int freshUsers) {
+        this(host, port, stopTimeout, modelPollInterval, freshUsers, false);
+    }
+
     /**
-     * Defaults overridden by {@code TWOFOLD_HTTP_HOST}, {@code TWOFOLD_HTTP_PORT} and
-     * {@code TWOFOLD_FRESH_USERS} when set and not blank.
+     * Defaults overridden by {@code TWOFOLD_HTTP_HOST}, {@code TWOFOLD_HTTP_PORT},
+     * {@code TWOFOLD_FRESH_USERS} and {@code TWOFOLD_ACCESS} when set and not blank.
      */
     public static ServiceSettings fromEnvironment(Map<String, String> env) {
         String host = env.get(HOST_VARIABLE);
         String port = env.get(PORT_VARIABLE);
         String fresh = env.get(FRESH_USERS_VARIABLE);
+        String access = env.get(ACCESS_VARIABLE);
+        boolean open = false;
+        if (access != null && !access.isBlank()) {
+            String mode = access.trim();
+            if (mode.equals(ACCESS_OPEN)) {
+                open = true;
+            } else if (!mode.equals(ACCESS_KEYS)) {
+                throw new ConfigurationException(ACCESS_VARIABLE + "='" + mode + "' is not " + ACCESS_KEYS
+                        + " (the default: every /v1 request needs an API key) or " + ACCESS_OPEN
+                        + " (no keys; local development on a loopback address only)");
+            }
+        }
         return new ServiceSettings(
                 host == null || host.isBlank() ? DEFAULT_HOST : host.trim(),
                 port == null || port.isBlank() ? DEFAULT_PORT : parse(PORT_VARIABLE, port.trim(), "0.." + MAX_PORT
@@ -74,7 +103,15 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
                 Duration.ofMillis(DEFAULT_STOP_TIMEOUT_MS),
                 Duration.ofMillis(DEFAULT_MODEL_POLL_MS),
                 fresh == null || fresh.isBlank() ? DEFAULT_FRESH_USERS : parse(FRESH_USERS_VARIABLE, fresh.trim(),
-                        "0.." + MAX_FRESH_USERS));
+                        "0.." + MAX_FRESH_USERS),
+                open);
+    }
+
+    /** Whether {@code host} names this machine only: 127.0.0.0/8, ::1 or localhost (no name lookup). */
+    static boolean loopback(String host) {
+        String h = host.startsWith("[") && host.endsWith("]") ? host.substring(1, host.length() - 1) : host;
+        return h.equals("localhost") || h.equals("::1") || h.equals("0:0:0:0:0:0:0:1")
+                || h.matches("127(\\.\\d{1,3}){3}");
     }
 
     /** Whole seconds a client should wait before asking again for a model, at least 1. */

@@ -81,6 +81,21 @@ public final class Intake {
     }
 
     /**
+     * Erases a user everywhere Twofold stores them ({@link RatingWriter#forgetUser}: ratings, trust
+     * edges both ways, factors in every model version, the id; one transaction, committed and
+     * announced before this returns), then drops them from this service's memory at once; other
+     * services drop them when the announcement reaches them.
+     *
+     * @return false when no user has this id (nothing was stored, so nothing was erased)
+     * @throws dev.twofold.db.BadInputException when the id breaks the id rules
+     */
+    public boolean forget(String user) {
+        boolean erased = new RatingWriter(database, RatingScale.DEFAULT).forgetUser(user);
+        live.forget(user);
+        return erased;
+    }
+
+    /**
      * Folds in users another service announced (they wrote there); returns how many were folded.
      * Failures are logged: those users are served as before until the next model load.
      */

@@ -7,14 +7,16 @@ import io.javalin.http.Context;
  * declares its role; before the route runs, the API asks the policy, which either returns or
  * throws a {@link ProblemException} ({@link ProblemType#UNAUTHORIZED} with a
  * {@code WWW-Authenticate} header, or {@link ProblemType#FORBIDDEN}). Routes without a role
- * (health, the OpenAPI document) never reach the policy.
+ * (health, metrics, the dashboard, the OpenAPI document) never reach the policy.
  *
- * <p>This is the seam for API keys: a policy that reads {@code Authorization: Bearer <key>},
- * looks up the key's hash and compares its role. Until keys exist the service runs with
- * {@link #OPEN}.
+ * <p>{@code twofold serve} checks API keys ({@code dev.twofold.service.access.KeyRing}); {@link #OPEN}
+ * is for tests and for local development when asked for explicitly.
  */
 @FunctionalInterface
 public interface AccessPolicy {
+
+    /** Request attribute where a policy leaves the name of the caller it admitted, for audit lines. */
+    String CALLER_ATTRIBUTE = "twofold.caller";
 
     /** Admits every request. */
     AccessPolicy OPEN = (ctx, needed) -> { };
@@ -25,4 +27,12 @@ public interface AccessPolicy {
      * @throws ProblemException when it may not
      */
     void admit(Context ctx, Role needed);
+
+    /**
+     * Whether the policy can decide yet (a key check needs the keys read from the database once);
+     * {@code /health/ready} answers 503 until it can.
+     */
+    default boolean ready() {
+        return true;
+    }
 }

@@ -29,6 +29,8 @@ import java.util.Optional;
 import java.util.function.Consumer;
 import java.util.function.Supplier;
 import org.eclipse.jetty.server.handler.GracefulHandler;
+import org.slf4j.Logger;
+import org.slf4j.LoggerFactory;
 
 /**
  * The HTTP API on Javalin: routes, the access check, limits and problem responses. What it answers
@@ -43,11 +45,12 @@ import org.eclipse.jetty.server.handler.GracefulHandler;
  *   <li>{@code GET /v1/items/{item}/similar?count=10} ({@link Role#READ})</li>
  *   <li>{@code POST /v1/ratings}, {@code POST /v1/trust} ({@link Role#WRITE}; 202 once committed)</li>
  *   <li>{@code GET /v1/models}, {@code GET /v1/models/{id}}, {@code POST /v1/models/{id}/promote},
- *       {@code POST /v1/models/rollback} ({@link Role#ADMIN})</li>
+ *       {@code POST /v1/models/rollback}, {@code DELETE /v1/users/{user}} ({@link Role#ADMIN})</li>
  *   <li>{@code GET /health/live}, {@code GET /health/ready}, {@code GET /openapi.yaml} (no role)</li>
  * </ul>
- * Without a database (no {@link Intake}, no {@link ModelControl}) the write and model routes answer
- * 503.
+ * Without a database (no {@link Intake}, no {@link ModelControl}) the write, erasure and model routes
+ * answer 503; with one that is unreachable ({@link DatabaseState}) they answer 503 at once, while
+ * the routes that answer from memory go on.
  *
  * <p>Stopping is graceful: Jetty's {@link GracefulHandler} wraps the application, so
  * {@link #stop()} stops accepting connections, lets requests in flight finish for up to the stop
@@ -58,12 +61,15 @@ public final class HttpApi {
     private static final String OPENAPI_RESOURCE = "openapi.yaml";
     private static final String YAML = "application/yaml";
     private static final String ROLLBACK = "rollback";
+    /** Same logger as the erasure's own audit line in the database layer. */
+    private static final Logger AUDIT = LoggerFactory.getLogger("dev.twofold.audit");
 
     private final Supplier<LiveModel> live;
     private final Ranker ranker;
     private final Intake intake;
     private final ModelControl models;
     private final AccessPolicy access;
+    private final DatabaseState database;
     private final ServingObserver observer;
     private final Consumer<JavalinConfig> extensions;
     private final Problems problems;
@@ -78,13 +84,14 @@ public final class HttpApi {
      * @param intake            takes ratings and trust edges, or null without a database
      * @param models            the model registry, or null without a database
      * @param access            who may call the {@code /v1} routes
+     * @param database          whether the database of {@code intake} and {@code models} answers, or null without one
      * @param observer          told of every request and recommendation
      * @param stopTimeout       how long {@link #stop()} waits for requests in flight
      * @param retryAfterSeconds Retry-After of "try again later" problems
      */
     public HttpApi(Supplier<LiveModel> live, Ranker ranker, Intake intake, ModelControl models, AccessPolicy access,
-            ServingObserver observer, Duration stopTimeout, int retryAfterSeconds) {
-        this(live, ranker, intake, models, access, observer, config -> { }, stopTimeout, retryAfterSeconds);
+            DatabaseState database, ServingObserver observer, Duration stopTimeout, int retryAfterSeconds) {
+        this(live, ranker, intake, models, access, database, observer, config -> { }, stopTimeout, retryAfterSeconds);
     }
 
     /**
@@ -92,16 +99,18 @@ public final class HttpApi {
      *                   request ids and the request log of {@code dev.twofold.service.ops})
      */
     public HttpApi(Supplier<LiveModel> live, Ranker ranker, Intake intake, ModelControl models, AccessPolicy access,
-            ServingObserver observer, Consumer<JavalinConfig> extensions, Duration stopTimeout, int retryAfterSeconds) {
+            DatabaseState database, ServingObserver observer, Consumer<JavalinConfig> extensions, Duration stopTimeout,
+            int retryAfterSeconds) {
         this.live = live;
         this.ranker = ranker;
         this.intake = intake;
         this.models = models;
         this.access = access;
+        this.database = database;
         this.observer = observer;
         this.extensions = extensions;
         this.retryAfterSeconds = retryAfterSeconds;
-        this.problems = new Problems(retryAfterSeconds);
+        this.problems = new Problems(retryAfterSeconds, database == null ? reason -> { } : database::lost);
         this.openApi = readOpenApi();
         this.app = Javalin.create(config -> configure(config, stopTimeout));
     }
@@ -155,6 +164,7 @@ public final class HttpApi {
         config.routes.get("/v1/models/{id}", this::showModel, Role.ADMIN);
         config.routes.post("/v1/models/{id}/promote", this::promote, Role.ADMIN);
         config.routes.post("/v1/models/" + ROLLBACK, this::rollback, Role.ADMIN);
+        config.routes.delete("/v1/users/{user}", this::forgetUser, Role.ADMIN);
         config.routes.get("/health/live", this::live);
         config.routes.get("/health/ready", this::ready);
         config.routes.get("/openapi.yaml", ctx -> ctx.contentType(YAML).result(openApi));
@@ -270,6 +280,21 @@ public final class HttpApi {
             json.writeNumberField("foldedUsers", accepted.foldedUsers());
             json.writeEndObject();
         });
+    }
+
+    /** 204 once the erasure is committed; 404 when nothing is stored under the id (so a repeated DELETE is 404). */
+    private void forgetUser(Context ctx) {
+        String user = RequestInput.id("user", ctx.pathParam("user"));
+        Intake in = requireIntake();
+        boolean erased = in.forget(user);
+        String key = ctx.attribute(AccessPolicy.CALLER_ATTRIBUTE);
+        AUDIT.info("erasure of user '{}' asked through the API{}: {}", user, key == null ? "" : " with key '" + key + "'",
+                erased ? "erased" : "nothing stored under this id");
+        if (!erased) {
+            throw new ProblemException(ProblemType.NOT_FOUND, "no user has the id '" + RequestInput.shorten(user)
+                    + "'; nothing is stored under it, so nothing was erased");
+        }
+        ctx.status(204);
     }
 
     private void listModels(Context ctx) {
@@ -415,6 +440,11 @@ public final class HttpApi {
 
     private void ready(Context ctx) {
         ServingModel m = requireLive().model();
+        if (!access.ready()) {
+            throw new ProblemException(ProblemType.DATABASE_UNAVAILABLE, "model " + m.id() + " is loaded but the API"
+                    + " keys have not been read from the database yet, so no /v1 request can be checked",
+                    Map.of("Retry-After", Integer.toString(retryAfterSeconds)));
+        }
         JsonOutput.send(ctx, 200, JsonOutput.JSON, json -> {
             json.writeStartObject();
             json.writeStringField("status", "ready");
@@ -437,6 +467,7 @@ public final class HttpApi {
         if (intake == null) {
             throw noDatabase();
         }
+        requireReachable();
         return intake;
     }
 
@@ -444,7 +475,18 @@ public final class HttpApi {
         if (models == null) {
             throw noDatabase();
         }
+        requireReachable();
         return models;
+    }
+
+    /** Refuses at once while the database is known to be unreachable: nothing is tried, so nothing is written. */
+    private void requireReachable() {
+        if (database != null && !database.reachable()) {
+            throw new ProblemException(ProblemType.DATABASE_UNAVAILABLE, "the database cannot be reached ("
+                    + database.unreachableSince() + "); nothing was written. The service reconnects by itself and"
+                    + " serves recommendations from memory meanwhile; try again later",
+                    Map.of("Retry-After", Integer.toString(retryAfterSeconds)));
+        }
     }
 
     private ProblemException noDatabase() {

@@ -8,6 +8,7 @@ import io.javalin.http.HttpResponseException;
 import io.javalin.http.HttpStatus;
 import java.util.List;
 import java.util.Map;
+import java.util.function.Consumer;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -26,10 +27,15 @@ final class Problems {
     private static final Logger LOG = LoggerFactory.getLogger(Problems.class);
 
     private final int retryAfterSeconds;
+    private final Consumer<String> databaseLost;
 
-    /** @param retryAfterSeconds Retry-After sent with "try again later" problems (503) */
-    Problems(int retryAfterSeconds) {
+    /**
+     * @param retryAfterSeconds Retry-After sent with "try again later" problems (503)
+     * @param databaseLost      told when a request found the database unreachable, with the reason
+     */
+    Problems(int retryAfterSeconds, Consumer<String> databaseLost) {
         this.retryAfterSeconds = retryAfterSeconds;
+        this.databaseLost = databaseLost;
     }
 
     /**
@@ -59,6 +65,7 @@ final class Problems {
                     bad.getMessage(), Map.of(), bad.problems());
         } else if (failure instanceof DatabaseUnavailableException down) {
             LOG.warn("{} {}: {}", ctx.method(), ctx.path(), down.getMessage());
+            databaseLost.accept(down.getMessage());
             send(ctx, ProblemType.DATABASE_UNAVAILABLE, "the database cannot be reached; try again later",
                     Map.of("Retry-After", Integer.toString(retryAfterSeconds)));
         } else if (failure instanceof HttpResponseException http) {

@@ -35,6 +35,7 @@ import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.CopyOnWriteArrayList;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicReference;
+import java.util.function.BooleanSupplier;
 import java.util.function.ToDoubleFunction;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
@@ -70,6 +71,8 @@ public final class ServiceMetrics implements AutoCloseable {
     static final String RECOMMENDATIONS = "twofold.recommendations";
     static final String FOLD_INS = "twofold.fold.ins";
     static final String SWAPS = "twofold.model.swap";
+    static final String AUTH_REFUSALS = "twofold.auth.refusals";
+    static final String DATABASE_UP = "twofold.database.up";
 
     private final PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
     private final Clock clock;
@@ -77,6 +80,7 @@ public final class ServiceMetrics implements AutoCloseable {
     private final List<ApiSeries> apiSeries = new CopyOnWriteArrayList<>();
     private final Map<ProblemKey, Counter> problems = new ConcurrentHashMap<>();
     private final Map<String, Counter> strategies = new ConcurrentHashMap<>();
+    private final Map<String, Counter> authRefusals = new ConcurrentHashMap<>();
     private final Counter foldIns;
     private final Timer swaps;
     private final AtomicReference<LiveModel> live = new AtomicReference<>();
@@ -135,6 +139,30 @@ public final class ServiceMetrics implements AutoCloseable {
     /** A recommendation list was made with this strategy (the {@code strategy} field of the response). */
     public void recommended(String strategy) {
         strategies.computeIfAbsent(strategy, this::strategyCounter).increment();
+    }
+
+    /**
+     * A {@code /v1} request was refused by the key check, for {@code reason}: {@code missing} (no
+     * key), {@code malformed} (not the Bearer scheme), {@code invalid} (unknown or revoked key) or
+     * {@code role} (the key's role is too small).
+     */
+    public void authRefused(String reason) {
+        authRefusals.computeIfAbsent(reason, r -> Counter.builder(AUTH_REFUSALS)
+                .description("Requests refused by the API key check, by reason: missing, malformed, invalid (unknown"
+                        + " or revoked key), role (the key's role is too small)")
+                .tag("reason", r)
+                .register(registry)).increment();
+    }
+
+    /**
+     * Adds {@code twofold_database_up}: 1 while the service's database answers, 0 while it is
+     * unreachable (writes are refused, serving goes on from memory). Set at most once.
+     */
+    public void trackDatabase(BooleanSupplier reachable) {
+        Gauge.builder(DATABASE_UP, reachable, r -> r.getAsBoolean() ? 1 : 0)
+                .description("1 while the service's database answers, 0 while it cannot be reached")
+                .strongReference(true)
+                .register(registry);
     }
 
     /** {@code users} users were folded into the live model after a write. */
