@@ -4,6 +4,8 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.testing.ApiClient;
@@ -33,10 +35,11 @@ class ServeCommandTest {
             Map<String, String> env = new HashMap<>(TestDatabases.environment(db));
             env.put(ServiceSettings.HOST_VARIABLE, "127.0.0.1");
             env.put(ServiceSettings.PORT_VARIABLE, "0");
+            String key = new ApiKeys(db).create("serve-test", KeyRole.READ).key();
             ServeCommand serve = new ServeCommand(env, false);
             Future<Integer> exit = runner.submit(serve);
             awaitTrue("serving", () -> serve.port() > 0 || exit.isDone());
-            ApiClient api = new ApiClient(serve.port());
+            ApiClient api = new ApiClient(serve.port(), key);
 
             assertEquals(200, api.get("/health/live").statusCode());
             assertEquals(503, api.get("/health/ready").statusCode());
@@ -45,6 +48,8 @@ class ServeCommandTest {
             long id = KitchenDatabase.publishModel(db);
             awaitTrue("ready", () -> api.get("/health/ready").statusCode() == 200);
 
+            assertEquals(401, api.withKey(null).get("/v1/users/ana/recommendations").statusCode(),
+                    "serve checks API keys unless told otherwise");
             HttpResponse<String> response = api.get("/v1/users/ana/recommendations");
             assertEquals(200, response.statusCode(), response.body());
             JsonNode body = ApiClient.json(response);

@@ -1,6 +1,7 @@
 package dev.twofold.service;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -20,6 +21,26 @@ class ServiceSettingsTest {
         assertEquals(Duration.ofMillis(ServiceSettings.DEFAULT_STOP_TIMEOUT_MS), settings.stopTimeout());
         assertEquals(2, settings.retryAfterSeconds(), "polling every 2 s keeps a missed notification within 5 s");
         assertEquals(ServiceSettings.DEFAULT_FRESH_USERS, settings.freshUsers());
+        assertFalse(settings.openAccess(), "API keys are checked unless asked otherwise");
+    }
+
+    @Test
+    void open_access_must_be_asked_for_by_name_and_only_on_a_loopback_address() {
+        for (String host : new String[] {"127.0.0.1", "127.1.2.3", "::1", "[::1]", "localhost"}) {
+            assertTrue(ServiceSettings.fromEnvironment(Map.of("TWOFOLD_ACCESS", "open", "TWOFOLD_HTTP_HOST", host))
+                    .openAccess(), host);
+        }
+        assertFalse(ServiceSettings.fromEnvironment(Map.of("TWOFOLD_ACCESS", " keys ")).openAccess());
+        for (String host : new String[] {"0.0.0.0", "10.0.0.7", "twofold.example", "127.0.0.1.example", "::"}) {
+            ConfigurationException e = assertThrows(ConfigurationException.class, () -> ServiceSettings.fromEnvironment(
+                    Map.of("TWOFOLD_ACCESS", "open", "TWOFOLD_HTTP_HOST", host)));
+            assertTrue(e.getMessage().contains("TWOFOLD_ACCESS=open") && e.getMessage().contains("'" + host + "'"),
+                    e.getMessage());
+        }
+        ConfigurationException e = assertThrows(ConfigurationException.class,
+                () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_ACCESS", "none", "TWOFOLD_HTTP_HOST", "127.0.0.1")));
+        assertTrue(e.getMessage().contains("TWOFOLD_ACCESS='none'") && e.getMessage().contains("keys")
+                && e.getMessage().contains("open"), e.getMessage());
     }
 
     @Test

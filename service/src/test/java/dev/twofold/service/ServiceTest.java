@@ -6,10 +6,10 @@ import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
-import dev.twofold.service.http.AccessPolicy;
-import dev.twofold.service.http.ProblemException;
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
+import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.http.ProblemType;
-import dev.twofold.service.http.Role;
 import dev.twofold.service.testing.ApiClient;
 import dev.twofold.service.testing.KitchenModel;
 import java.io.ByteArrayOutputStream;
@@ -25,7 +25,6 @@ import java.net.http.HttpResponse;
 import java.nio.charset.StandardCharsets;
 import java.time.Duration;
 import java.util.List;
-import java.util.Map;
 import java.util.concurrent.CompletableFuture;
 import java.util.concurrent.TimeUnit;
 import java.util.function.BooleanSupplier;
@@ -133,26 +132,28 @@ class ServiceTest {
     }
 
     @Test
-    void the_access_policy_guards_v1_routes_with_their_role_and_leaves_health_open() {
-        AccessPolicy keyed = (ctx, needed) -> {
-            if (!"Bearer kitchen-key".equals(ctx.header("Authorization"))) {
-                throw new ProblemException(ProblemType.UNAUTHORIZED, "this route needs a " + needed + " key",
-                        Map.of("WWW-Authenticate", "Bearer"));
-            }
-        };
-        try (Service service = new Service(local(), keyed)) {
+    void the_key_ring_guards_v1_routes_with_their_role_and_leaves_health_open() {
+        KeyRing keys = new KeyRing(1);
+        try (Service service = new Service(local(), keys)) {
             service.install(KitchenModel.build());
             ApiClient api = new ApiClient(service.start());
+            HttpResponse<String> notYet = api.get("/health/ready");
+            assertEquals(503, notYet.statusCode(), "not ready before the keys were read");
+            assertEquals(ProblemType.DATABASE_UNAVAILABLE.uri(), ApiClient.json(notYet).path("type").asText());
+
+            keys.replace(List.of(new ApiKeys.LiveKey(1, "kitchen", KeyRole.READ, ApiKeys.hash("kitchen-key"))));
             HttpResponse<String> refused = api.get("/v1/users/cy/recommendations");
             assertEquals(401, refused.statusCode());
-            assertEquals("Bearer", refused.headers().firstValue("WWW-Authenticate").orElseThrow());
+            assertTrue(refused.headers().firstValue("WWW-Authenticate").orElseThrow().startsWith("Bearer "));
             JsonNode problem = ApiClient.json(refused);
             assertEquals(ProblemType.UNAUTHORIZED.uri(), problem.path("type").asText());
-            assertTrue(problem.path("detail").asText().contains(Role.READ.name()));
+            assertTrue(problem.path("detail").asText().contains("role read"), problem.toString());
 
-            HttpResponse<String> admitted = api.send(HttpRequest.newBuilder(api.uri("/v1/users/cy/recommendations"))
-                    .header("Authorization", "Bearer kitchen-key").GET());
-            assertEquals(200, admitted.statusCode());
+            ApiClient reader = new ApiClient(api.uri("/").getPort(), "kitchen-key");
+            assertEquals(200, reader.get("/v1/users/cy/recommendations").statusCode());
+            HttpResponse<String> write = reader.postJson("/v1/ratings", "[]");
+            assertEquals(403, write.statusCode(), write.body());
+            assertEquals(ProblemType.FORBIDDEN.uri(), ApiClient.json(write).path("type").asText());
             assertEquals(200, api.get("/health/ready").statusCode());
             assertEquals(200, api.get("/openapi.yaml").statusCode());
         }

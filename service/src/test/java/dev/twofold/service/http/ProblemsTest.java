@@ -13,6 +13,7 @@ import io.javalin.Javalin;
 import io.javalin.http.HttpResponseException;
 import java.net.http.HttpResponse;
 import java.util.List;
+import java.util.concurrent.CopyOnWriteArrayList;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -22,6 +23,7 @@ class ProblemsTest {
 
     private static final int RETRY_AFTER_SECONDS = 7;
 
+    private static final List<String> LOST = new CopyOnWriteArrayList<>();
     private static Javalin app;
     private static ApiClient api;
 
@@ -29,7 +31,7 @@ class ProblemsTest {
     static void start() {
         app = Javalin.create(config -> {
             config.startup.showJavalinBanner = false;
-            new Problems(RETRY_AFTER_SECONDS).register(config.routes);
+            new Problems(RETRY_AFTER_SECONDS, LOST::add).register(config.routes);
             config.routes.get("/bad-rows", ctx -> {
                 throw new BadInputException("2 of 3 rows are invalid; nothing was written",
                         List.of("[0]: rating 7 is outside the scale 1..5", "[2]: user is missing"), 2);
@@ -63,10 +65,11 @@ class ProblemsTest {
     }
 
     @Test
-    void an_unreachable_database_is_a_503_with_retry_after() {
+    void an_unreachable_database_is_a_503_with_retry_after_and_is_reported_lost() {
         HttpResponse<String> response = api.get("/database-down");
         assertProblem(response, 503, ProblemType.DATABASE_UNAVAILABLE);
         assertEquals(Integer.toString(RETRY_AFTER_SECONDS), response.headers().firstValue("Retry-After").orElseThrow());
+        assertTrue(LOST.contains("PostgreSQL at 127.0.0.1:1 refused the connection"), LOST.toString());
     }
 
     @Test

@@ -112,6 +112,15 @@ class MetricsEndpointTest {
     }
 
     @Test
+    void refused_keys_are_counted_by_reason_and_the_database_is_reported_up() {
+        assertEquals(sent.withoutKey(), metrics.value("twofold_auth_refusals_total", "reason", "missing"));
+        assertEquals(sent.withUnknownKey(), metrics.value("twofold_auth_refusals_total", "reason", "invalid"));
+        assertEquals(sent.withoutKey() + sent.withUnknownKey(), metrics.value("twofold_http_server_problems_total",
+                "type", "unauthorized", "status", "401"));
+        assertEquals(1, metrics.value("twofold_database_up"));
+    }
+
+    @Test
     void recommendations_are_counted_by_the_strategy_the_response_carried() {
         assertEquals(sent.modelRecommendations(), metrics.value("twofold_recommendations_total", "strategy", "model"));
         assertEquals(sent.popularRecommendations(), metrics.value("twofold_recommendations_total",

@@ -2,6 +2,8 @@ package dev.twofold.service.ops;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.ingest.Importer;
 import dev.twofold.db.ingest.RatingScale;
@@ -10,7 +12,7 @@ import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
-import dev.twofold.service.http.AccessPolicy;
+import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.testing.ApiClient;
 import dev.twofold.trainer.fit.FitSettings;
@@ -103,9 +105,11 @@ final class TrainedCommunity implements AutoCloseable {
 
             // the service loads the active model as it starts and follows promotions from then on
             ops = new Observability(settings, database, Clock.systemUTC());
-            service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10), Duration.ofSeconds(1)),
-                    AccessPolicy.OPEN, database, new ModelLoader(database), ops);
-            ApiClient api = new ApiClient(service.start());
+            String key = new ApiKeys(database).create("kitchen-backend", KeyRole.WRITE).key();
+            ServiceSettings serving = new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10), Duration.ofSeconds(1));
+            service = new Service(serving, new KeyRing(serving.retryAfterSeconds()), database,
+                    new ModelLoader(database), ops);
+            ApiClient api = new ApiClient(service.start(), key);
             awaitServing(service, models[0]);
 
             TrainReport worse = new TrainJob(database, WORSE).run();
@@ -162,7 +166,8 @@ final class TrainedCommunity implements AutoCloseable {
     /**
      * Real API traffic: recommendations for known cooks (strategy model) and unknown ones
      * (popular), predictions, two invalid requests (400), an unknown path (404), a rating written
-     * (202, folded in), and a new cook who only follows others (served by trust).
+     * (202, folded in), a new cook who only follows others (served by trust), and two requests the
+     * key check refuses (401: no key, a key never issued).
      */
     Traffic sendTraffic(int knownCooks) {
         int model = 0;
@@ -193,12 +198,15 @@ final class TrainedCommunity implements AutoCloseable {
         folded += ApiClient.json(follows).path("foldedUsers").asInt();
         HttpResponse<String> trusted = api.get("/v1/users/" + follower + "/recommendations?count=5");
         assertEquals("trust", ApiClient.json(trusted).path("strategy").asText(), trusted.body());
-        return new Traffic(model, popular, 1, 1, 2, 1, folded);
+        assertEquals(401, api.withKey(null).get("/v1/users/" + cooks.get(0) + "/recommendations").statusCode());
+        assertEquals(401, api.withKey("tf_never-issued").get("/v1/users/" + cooks.get(0) + "/recommendations")
+                .statusCode());
+        return new Traffic(model, popular, 1, 1, 2, 1, folded, 1, 1);
     }
 
     /** What {@link #sendTraffic} sent, and how many users the service folded in after the write. */
     record Traffic(int modelRecommendations, int popularRecommendations, int trustRecommendations, int predictions,
-            int badRequests, int notFound, int foldedUsers) {
+            int badRequests, int notFound, int foldedUsers, int withoutKey, int withUnknownKey) {
 
         int servedRecommendations() {
             return modelRecommendations + popularRecommendations + trustRecommendations;

@@ -10,17 +10,35 @@ import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
 import java.time.Duration;
 
-/** A real HTTP client against a service on 127.0.0.1. */
+/** A real HTTP client against a service on 127.0.0.1, sending an API key with every request when it has one. */
 public final class ApiClient {
 
     private static final Duration TIMEOUT = Duration.ofSeconds(30);
     private static final ObjectMapper JSON = new ObjectMapper();
 
-    private final HttpClient http = HttpClient.newBuilder().connectTimeout(TIMEOUT).build();
+    private final HttpClient http;
     private final String base;
+    private final String key;
 
+    /** A client that sends no key. */
     public ApiClient(int port) {
-        this.base = "http://127.0.0.1:" + port;
+        this(HttpClient.newBuilder().connectTimeout(TIMEOUT).build(), "http://127.0.0.1:" + port, null);
+    }
+
+    /** A client that sends {@code Authorization: Bearer key} with every request. */
+    public ApiClient(int port, String key) {
+        this(HttpClient.newBuilder().connectTimeout(TIMEOUT).build(), "http://127.0.0.1:" + port, key);
+    }
+
+    private ApiClient(HttpClient http, String base, String key) {
+        this.http = http;
+        this.base = base;
+        this.key = key;
+    }
+
+    /** The same server, with {@code key} instead (null for none). */
+    public ApiClient withKey(String key) {
+        return new ApiClient(http, base, key);
     }
 
     public HttpResponse<String> get(String path) {
@@ -44,6 +62,9 @@ public final class ApiClient {
     }
 
     public HttpResponse<String> send(HttpRequest.Builder request) {
+        if (key != null) {
+            request.header("Authorization", "Bearer " + key);
+        }
         try {
             return http.send(request.timeout(TIMEOUT).build(), HttpResponse.BodyHandlers.ofString());
         } catch (IOException e) {
