@@ -1,5 +1,7 @@
 package dev.twofold.launch;
 
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
 import dev.twofold.db.ingest.ImportReport;
@@ -27,8 +29,9 @@ import picocli.CommandLine.Spec;
 
 /**
  * {@code twofold demo}: the whole path once, on the database the environment names (the embedded
- * one by default) — generate the cooking community, import it, train and promote a model, then
- * serve it until stopped, printing the URL and two requests to try.
+ * one by default) — generate the cooking community, import it, train and promote a model, make an
+ * API key with the role {@code write} (reads and writes; named {@value #KEY_NAME}, replacing the
+ * one an earlier demo made), then serve until stopped, printing the URL, the key and requests to try.
  */
 @Command(name = "demo", mixinStandardHelpOptions = true,
         description = "Generate demo data (cooks rating recipes and following cooks), import it, train a model and serve it.",
@@ -39,6 +42,9 @@ import picocli.CommandLine.Spec;
             "  TWOFOLD_DB_URL, TWOFOLD_DB_USER, TWOFOLD_DB_PASSWORD   an external PostgreSQL instead"
         })
 final class DemoCommand implements Callable<Integer> {
+
+    /** Name of the key the demo makes; each run revokes the previous run's key of that name. */
+    static final String KEY_NAME = "demo";
 
     @Spec
     CommandSpec spec;
@@ -81,6 +87,7 @@ final class DemoCommand implements Callable<Integer> {
         }
         PlantedCommunity community = CookingCommunity.generate(
                 CommunitySpec.defaults().withSize(users, items).withSeed(seed));
+        String key;
 
         // The demo's own connection closes before serving starts: the service opens (or joins) the
         // database itself and is then the only one to close it when stopped.
@@ -94,7 +101,17 @@ final class DemoCommand implements Callable<Integer> {
             step(out, "3/4 training");
             TrainReport report = new TrainJob(database, TrainSettings.defaults()).run();
             out.print(report.summary());
+
+            ApiKeys keys = new ApiKeys(database);
+            keys.revoke(KEY_NAME);
+            key = keys.create(KEY_NAME, KeyRole.WRITE).key();
         }
+        out.println();
+        out.println("API key '" + KEY_NAME + "' (role write: recommendations, predictions, similar items, ratings,"
+                + " trust), shown only now:");
+        out.println("  export TWOFOLD_KEY=" + key);
+        out.println("Every /v1 request needs it: -H \"Authorization: Bearer $TWOFOLD_KEY\". Make others with"
+                + " twofold keys create --role read|write|admin --name NAME.");
         if (noServe) {
             out.flush();
             return 0;
@@ -102,13 +119,14 @@ final class DemoCommand implements Callable<Integer> {
         String base = "http://localhost:" + (serviceSettings.port() == 0 ? ServiceSettings.DEFAULT_PORT
                 : serviceSettings.port());
         step(out, "4/4 serving on " + base + " (Ctrl-C stops)");
-        out.println("Try, once it logs that it is serving:");
-        out.printf("  curl -s '%s/v1/users/%s/recommendations?count=5'%n", base,
+        out.println("Try, once it logs that it is serving (after the export above):");
+        String auth = "-H \"Authorization: Bearer $TWOFOLD_KEY\"";
+        out.printf("  curl -s %s '%s/v1/users/%s/recommendations?count=5'%n", auth, base,
                 community.cookId(mostActiveCook(community)));
-        out.printf("  curl -s '%s/v1/users/%s/recommendations?count=5'    # a newcomer with few ratings%n", base,
-                community.cookId(firstNewcomer(community)));
-        out.printf("  curl -s -X POST %s/v1/predictions -H 'Content-Type: application/json' "
-                + "-d '{\"pairs\":[{\"user\":\"%s\",\"item\":\"%s\"}]}'%n", base,
+        out.printf("  curl -s %s '%s/v1/users/%s/recommendations?count=5'    # a newcomer with few ratings%n", auth,
+                base, community.cookId(firstNewcomer(community)));
+        out.printf("  curl -s %s -X POST %s/v1/predictions -H 'Content-Type: application/json' "
+                + "-d '{\"pairs\":[{\"user\":\"%s\",\"item\":\"%s\"}]}'%n", auth, base,
                 community.cookId(mostActiveCook(community)), community.recipeId(0));
         out.flush();
         return new ServeCommand().call();

@@ -24,6 +24,7 @@ import org.junit.jupiter.api.io.TempDir;
 class DemoIT {
 
     static final Pattern EXAMPLE_USER = Pattern.compile("/v1/users/([^/]+)/recommendations");
+    static final Pattern KEY = Pattern.compile("export TWOFOLD_KEY=(tf_[A-Za-z0-9_-]{43})\\s");
 
     @TempDir
     Path work;
@@ -39,13 +40,25 @@ class DemoIT {
             demo.awaitReady(http, "http://127.0.0.1:" + port + "/health/ready");
             Matcher m = EXAMPLE_USER.matcher(demo.stdout());
             assertTrue(m.find(), "the demo prints an example request\n" + demo.describe());
-            HttpResponse<String> r = http.send(HttpRequest.newBuilder(URI.create(
-                    "http://127.0.0.1:" + port + "/v1/users/" + m.group(1) + "/recommendations?count=5")).build(),
+            Matcher key = KEY.matcher(demo.stdout());
+            assertTrue(key.find(), "the demo prints the key to use\n" + demo.describe());
+            assertTrue(demo.stdout().contains("-H \"Authorization: Bearer $TWOFOLD_KEY\""), demo.stdout());
+            URI example = URI.create("http://127.0.0.1:" + port + "/v1/users/" + m.group(1) + "/recommendations?count=5");
+            HttpResponse<String> anonymous = http.send(HttpRequest.newBuilder(example).build(),
                     HttpResponse.BodyHandlers.ofString());
+            assertEquals(401, anonymous.statusCode(), "the demo serves with keys checked: " + anonymous.body());
+            HttpResponse<String> r = http.send(HttpRequest.newBuilder(example).header("Authorization", "Bearer "
+                    + key.group(1)).build(), HttpResponse.BodyHandlers.ofString());
             assertEquals(200, r.statusCode(), r.body());
             JsonNode body = new ObjectMapper().readTree(r.body());
             assertEquals(5, body.get("items").size(), r.body());
             assertEquals("model", body.get("strategy").asText());
+            HttpResponse<String> wrote = http.send(HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port
+                    + "/v1/ratings")).header("Authorization", "Bearer " + key.group(1))
+                    .header("Content-Type", "application/json").POST(HttpRequest.BodyPublishers.ofString(
+                            "[{\"user\": \"" + m.group(1) + "\", \"item\": \"demo-it-recipe\", \"rating\": 4}]")).build(),
+                    HttpResponse.BodyHandlers.ofString());
+            assertEquals(202, wrote.statusCode(), "the demo key may send ratings: " + wrote.body());
 
             assertEquals(LauncherProcess.EXIT_AFTER_SIGTERM, demo.terminate(), demo.describe());
             assertTrue(demo.stderr().contains("stopped embedded PostgreSQL"),

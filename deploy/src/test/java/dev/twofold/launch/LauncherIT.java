@@ -44,6 +44,8 @@ class LauncherIT {
 
     static Database database;
     static Map<String, String> env;
+    /** The read key the serve test created with `twofold keys create`. */
+    static String readKey;
     static final HttpClient HTTP = HttpClient.newHttpClient();
     static final ObjectMapper JSON = new ObjectMapper();
 
@@ -99,11 +101,22 @@ class LauncherIT {
         long activeId = new ModelRegistry(database).active().orElseThrow().id();
         assertEquals(activeId, report.get("modelId").asLong());
 
+        LauncherProcess created = LauncherProcess.run(env, work, "keys", "create", "--role", "read", "--name",
+                "launcher-it");
+        assertEquals(0, created.exitCode(), created.describe());
+        String key = created.stdout().strip();
+        assertTrue(key.startsWith("tf_") && !created.stderr().contains(key), "the key is printed once, on stdout");
+
         int port = LauncherProcess.freePort();
         try (LauncherProcess serve = LauncherProcess.start(
                 LauncherProcess.env(env, "TWOFOLD_HTTP_PORT", Integer.toString(port)), work, "serve")) {
             String base = "http://127.0.0.1:" + port;
             serve.awaitReady(HTTP, base + "/health/ready");
+            HttpResponse<String> anonymous = HTTP.send(HttpRequest.newBuilder(URI.create(base
+                    + "/v1/users/never-seen-cook/recommendations")).build(), HttpResponse.BodyHandlers.ofString());
+            assertEquals(401, anonymous.statusCode(), "serve checks API keys by default: " + anonymous.body());
+            assertTrue(anonymous.headers().firstValue("WWW-Authenticate").orElse("").startsWith("Bearer"));
+            readKey = key;
 
             String user = mostActiveUser(data.resolve("ratings.csv"));
             Set<String> rated = ratedItems(user);
@@ -153,9 +166,17 @@ class LauncherIT {
         assertEquals(before, count("ratings"), "nothing written");
     }
 
+    @Test
+    void serve_refuses_open_access_on_an_address_other_machines_can_reach() throws Exception {
+        LauncherProcess p = LauncherProcess.run(LauncherProcess.env(env, "TWOFOLD_ACCESS", "open",
+                "TWOFOLD_HTTP_HOST", "0.0.0.0", "TWOFOLD_HTTP_PORT", "0"), work, "serve");
+        assertEquals(2, p.exitCode(), p.describe());
+        assertTrue(p.stderr().contains("TWOFOLD_ACCESS=open") && p.stderr().contains("127.0.0.1"), p.describe());
+    }
+
     private static JsonNode getJson(String url) throws Exception {
-        HttpResponse<String> r = HTTP.send(HttpRequest.newBuilder(URI.create(url)).build(),
-                HttpResponse.BodyHandlers.ofString());
+        HttpResponse<String> r = HTTP.send(HttpRequest.newBuilder(URI.create(url)).header("Authorization",
+                "Bearer " + readKey).build(), HttpResponse.BodyHandlers.ofString());
         assertEquals(200, r.statusCode(), url + " -> " + r.body());
         return JSON.readTree(r.body());
     }

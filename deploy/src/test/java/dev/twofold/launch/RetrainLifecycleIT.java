@@ -6,6 +6,8 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.registry.ModelRegistry;
@@ -55,6 +57,8 @@ class RetrainLifecycleIT {
 
     static Database database;
     static Map<String, String> env;
+    /** A read key for the service's answers (it checks keys, as twofold serve does by default). */
+    static String readKey;
     static ModelRegistry registry;
 
     @TempDir
@@ -203,6 +207,7 @@ class RetrainLifecycleIT {
         long live = registry.active().orElseThrow().id();
         long previous = registry.previous().orElseThrow();
         String user = aUserWithRatings();
+        readKey = new ApiKeys(database).create("lifecycle-reader", KeyRole.READ).key();
         int port = LauncherProcess.freePort();
         try (LauncherProcess serve = LauncherProcess.start(
                 LauncherProcess.env(env, "TWOFOLD_HTTP_PORT", Integer.toString(port)), work, "serve")) {
@@ -220,7 +225,8 @@ class RetrainLifecycleIT {
     }
 
     private static long servedModel(String url) throws Exception {
-        HttpResponse<String> r = HTTP.send(HttpRequest.newBuilder(URI.create(url)).build(), HttpResponse.BodyHandlers.ofString());
+        HttpResponse<String> r = HTTP.send(HttpRequest.newBuilder(URI.create(url)).header("Authorization",
+                "Bearer " + readKey).build(), HttpResponse.BodyHandlers.ofString());
         assertEquals(200, r.statusCode(), url + " -> " + r.body());
         return JSON.readTree(r.body()).get("model").asLong();
     }

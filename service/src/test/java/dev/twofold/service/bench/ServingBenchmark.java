@@ -1,9 +1,12 @@
 package dev.twofold.service.bench;
 
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.registry.ModelFactors;
 import dev.twofold.db.snapshot.IdDirectory;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
+import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.testing.KitchenModel;
 import io.javalin.Javalin;
@@ -26,8 +29,9 @@ import java.util.regex.Pattern;
 
 /**
  * The serving benchmark: wrk on loopback against the real service (a synthetic model of 20,000
- * items at rank 64, users chosen at random by a Lua script) and, in the same run, against a bare
- * Javalin endpoint returning a short string, the yardstick. A plain main, not a test; it only
+ * items at rank 64, users chosen at random by a Lua script, every request carrying an API key that
+ * the service checks as in production) and, in the same run, against a bare Javalin endpoint
+ * returning a short string, the yardstick. A plain main, not a test; it only
  * talks to 127.0.0.1, runs a bounded time and stops everything it started.
  *
  * <pre>
@@ -44,6 +48,8 @@ public final class ServingBenchmark {
     private static final int RATINGS_PER_USER = 20;
     private static final int WARMUP_SECONDS = 5;
     private static final String WRK = "/usr/bin/wrk";
+    /** The benchmark's own key, held in the service's key ring only (no database here). */
+    private static final String KEY = "tf_serving-benchmark-key";
 
     private ServingBenchmark() {
     }
@@ -69,8 +75,10 @@ public final class ServingBenchmark {
             config.routes.get("/hello", ctx -> ctx.result("hello"));
         });
         bare.start("127.0.0.1", 0);
+        KeyRing keys = new KeyRing(1);
+        keys.replace(List.of(new ApiKeys.LiveKey(1, "bench", KeyRole.READ, ApiKeys.hash(KEY))));
         try (Service service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(5),
-                Duration.ofSeconds(2)))) {
+                Duration.ofSeconds(2)), keys)) {
             service.install(model);
             int port = service.start();
             String bareUrl = "http://127.0.0.1:" + bare.port();
@@ -111,9 +119,10 @@ public final class ServingBenchmark {
         }
     }
 
-    /** One user per request, uniformly among all users, ten items each. */
+    /** One user per request, uniformly among all users, ten items each, with the benchmark's key. */
     static String luaScript(int users) {
         return "math.randomseed(" + SEED + ")\n"
+                + "wrk.headers[\"Authorization\"] = \"Bearer " + KEY + "\"\n"
                 + "request = function()\n"
                 + "  return wrk.format(\"GET\", \"/v1/users/cook-\" .. math.random(0, " + (users - 1)
                 + ") .. \"/recommendations?count=10\")\n"
