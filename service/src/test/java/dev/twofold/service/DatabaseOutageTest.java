@@ -17,6 +17,7 @@ import dev.twofold.db.embedded.EmbeddedServer;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.http.ProblemType;
 import dev.twofold.service.testing.ApiClient;
+import dev.twofold.service.testing.Await;
 import dev.twofold.service.testing.KitchenDatabase;
 import java.io.IOException;
 import java.net.InetAddress;
@@ -131,14 +132,14 @@ class DatabaseOutageTest {
             assertProblem(serving.api.withKey(writeKey).postJson("/v1/ratings", rating("early-cook")), 503,
                     ProblemType.DATABASE_UNAVAILABLE);
 
-            awaitTrue("three failed attempts are logged", () -> attemptDelays().size() >= 3);
+            await("three failed attempts are logged", () -> attemptDelays().size() >= 3);
             List<Long> delays = attemptDelays();
             assertEquals(List.of(DatabaseLink.FIRST_RETRY_MS, DatabaseLink.FIRST_RETRY_MS * 2,
                     DatabaseLink.FIRST_RETRY_MS * 4), delays.subList(0, 3), "exponential backoff: " + logs());
             assertEquals(503, serving.api.get("/health/ready").statusCode());
 
             startDatabase();
-            awaitTrue("ready once the database answers", () -> serving.api.get("/health/ready").statusCode() == 200);
+            await("ready once the database answers", () -> serving.api.get("/health/ready").statusCode() == 200);
             assertEquals(model, ApiClient.json(serving.api.get("/health/ready")).path("model").asLong());
             HttpResponse<String> served = reader.get("/v1/users/ana/recommendations");
             assertEquals(200, served.statusCode(), served.body());
@@ -154,7 +155,7 @@ class DatabaseOutageTest {
         ConcurrentLinkedQueue<String> acknowledged = new ConcurrentLinkedQueue<>();
         List<String> refused = new ArrayList<>();
         try (Serving serving = Serving.start()) {
-            awaitTrue("ready", () -> serving.api.get("/health/ready").statusCode() == 200);
+            await("ready", () -> serving.api.get("/health/ready").statusCode() == 200);
             ApiClient reader = serving.api.withKey(readKey);
             ApiClient writer = serving.api.withKey(writeKey);
             ApiClient admin = serving.api.withKey(adminKey);
@@ -176,10 +177,10 @@ class DatabaseOutageTest {
                 }
                 return n;
             });
-            awaitTrue("writes are acknowledged", () -> acknowledged.size() >= 5);
+            await("writes are acknowledged", () -> acknowledged.size() >= 5);
 
             stopDatabase();
-            awaitTrue("writes are refused once the database is gone",
+            await("writes are refused once the database is gone",
                     () -> writer.postJson("/v1/ratings", rating("probe-" + System.nanoTime())).statusCode() == 503);
             assertEquals("0.0", metric(serving.api, "twofold_database_up"));
 
@@ -210,9 +211,9 @@ class DatabaseOutageTest {
             assertProblem(reader.postJson("/v1/ratings", rating("reader-cook")), 403, ProblemType.FORBIDDEN);
 
             startDatabase();
-            awaitTrue("writes work again by themselves",
+            await("writes work again by themselves",
                     () -> writer.postJson("/v1/ratings", rating("back-" + System.nanoTime())).statusCode() == 202);
-            awaitTrue("the steady writer is acknowledged again", () -> {
+            await("the steady writer is acknowledged again", () -> {
                 int before = acknowledged.size();
                 return waitFor(500) && acknowledged.size() > before;
             });
@@ -244,7 +245,7 @@ class DatabaseOutageTest {
             this.serve = serve;
             this.exit = exit;
             this.runner = runner;
-            awaitTrue("serving", () -> serve.port() > 0 || exit.isDone());
+            await("serving", () -> serve.port() > 0 || exit.isDone());
             assertTrue(serve.port() > 0, "serve did not start: " + logs());
             this.api = new ApiClient(serve.port());
         }
@@ -390,14 +391,8 @@ class DatabaseOutageTest {
         ((ch.qos.logback.classic.Logger) LoggerFactory.getLogger(DatabaseLink.class)).setLevel(linkLevel);
     }
 
-    private static void awaitTrue(String what, BooleanSupplier condition) throws InterruptedException {
-        long deadline = System.nanoTime() + WAIT.toNanos();
-        while (!condition.getAsBoolean()) {
-            if (System.nanoTime() > deadline) {
-                throw new AssertionError("gave up after " + WAIT + " waiting until " + what + "; the log:" + logs());
-            }
-            Thread.sleep(50);
-        }
+    private static void await(String what, BooleanSupplier condition) throws InterruptedException {
+        Await.until(what, WAIT, condition, () -> "; the log:" + logs());
     }
 
     private static boolean waitFor(long ms) {

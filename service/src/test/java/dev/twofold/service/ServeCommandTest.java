@@ -9,6 +9,7 @@ import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.testing.TestDatabases;
 import dev.twofold.service.testing.ApiClient;
+import dev.twofold.service.testing.Await;
 import dev.twofold.service.testing.KitchenDatabase;
 import java.net.http.HttpResponse;
 import java.nio.file.Path;
@@ -19,7 +20,6 @@ import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.Future;
 import java.util.concurrent.TimeUnit;
-import java.util.function.BooleanSupplier;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -38,7 +38,7 @@ class ServeCommandTest {
             String key = new ApiKeys(db).create("serve-test", KeyRole.READ).key();
             ServeCommand serve = new ServeCommand(env, false);
             Future<Integer> exit = runner.submit(serve);
-            awaitTrue("serving", () -> serve.port() > 0 || exit.isDone());
+            Await.until("serving", WAIT, () -> serve.port() > 0 || exit.isDone());
             ApiClient api = new ApiClient(serve.port(), key);
 
             assertEquals(200, api.get("/health/live").statusCode());
@@ -46,7 +46,7 @@ class ServeCommandTest {
 
             KitchenDatabase.importRatings(db, dir);
             long id = KitchenDatabase.publishModel(db);
-            awaitTrue("ready", () -> api.get("/health/ready").statusCode() == 200);
+            Await.until("ready", WAIT, () -> api.get("/health/ready").statusCode() == 200);
 
             assertEquals(401, api.withKey(null).get("/v1/users/ana/recommendations").statusCode(),
                     "serve checks API keys unless told otherwise");
@@ -63,16 +63,6 @@ class ServeCommandTest {
         } finally {
             runner.shutdownNow();
             runner.awaitTermination(WAIT.toSeconds(), TimeUnit.SECONDS);
-        }
-    }
-
-    private static void awaitTrue(String what, BooleanSupplier condition) throws InterruptedException {
-        long deadline = System.nanoTime() + WAIT.toNanos();
-        while (!condition.getAsBoolean()) {
-            if (System.nanoTime() > deadline) {
-                throw new AssertionError("gave up waiting until " + what);
-            }
-            Thread.sleep(50);
         }
     }
 }

@@ -11,6 +11,7 @@ import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
 import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.testing.ApiClient;
+import dev.twofold.service.testing.Await;
 import dev.twofold.service.testing.KitchenDatabase;
 import java.net.http.HttpResponse;
 import java.nio.file.Path;
@@ -19,7 +20,6 @@ import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.time.Duration;
-import java.util.function.BooleanSupplier;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -91,7 +91,7 @@ class ErasureApiTest {
                 + " where u.external_id = 'cy'"), "cy's edge to ana went with ana; cy trusts nobody else");
 
         assertEquals("popular", strategy(admin, "ana"), "the asking service drops her at once");
-        awaitTrue("the other service drops her", () -> "popular".equals(strategy(otherReader, "ana")));
+        Await.until("the other service drops her", WAIT, () -> "popular".equals(strategy(otherReader, "ana")));
         assertEquals("model", strategy(otherReader, "ben"), "nobody else is touched");
 
         HttpResponse<String> again = admin.send("DELETE", "/v1/users/ana");
@@ -110,16 +110,6 @@ class ErasureApiTest {
                 ResultSet rs = ps.executeQuery()) {
             rs.next();
             return rs.getLong(1);
-        }
-    }
-
-    private static void awaitTrue(String what, BooleanSupplier condition) throws InterruptedException {
-        long deadline = System.nanoTime() + WAIT.toNanos();
-        while (!condition.getAsBoolean()) {
-            if (System.nanoTime() > deadline) {
-                throw new AssertionError("gave up after " + WAIT + " waiting until " + what);
-            }
-            Thread.sleep(50);
         }
     }
 }
