@@ -191,44 +191,32 @@ public final class CcdSolver implements Solver {
 
         /** b_i = Σ_u (e_ui + b_i) / (n_i + λ ñ_i): exact over b_i. */
         private void itemBiases() {
-            float[] bi = st.bi;
-            int[] is = r.itemStart();
-            workers.forEachChunk(n, ROWS_PER_CHUNK, MIN_PARALLEL_ROWS, (w, from, to) -> {
-                for (int i = from; i < to; i++) {
-                    oldBias[i] = bi[i];
-                    int count = is[i + 1] - is[i];
-                    if (count == 0) {
-                        continue;
-                    }
-                    double sum = 0;
-                    for (int at = is[i]; at < is[i + 1]; at++) {
-                        sum += eItem[at] + bi[i];
-                    }
-                    bi[i] = (float) (sum / (count + lambda * count));
-                }
-            });
-            correctResiduals(null, bi, true);
+            refitBiases(st.bi, n, r.itemStart(), eItem);
+            correctResiduals(null, st.bi, true);
         }
 
         /** b_u = Σ_i (e_ui + b_u) / (n_u + λ ñ_u): exact over b_u (no trust term touches biases). */
         private void userBiases() {
-            float[] bu = st.bu;
-            int[] us = r.userStart();
-            workers.forEachChunk(m, ROWS_PER_CHUNK, MIN_PARALLEL_ROWS, (w, from, to) -> {
-                for (int u = from; u < to; u++) {
-                    oldBias[u] = bu[u];
-                    int count = us[u + 1] - us[u];
+            refitBiases(st.bu, m, r.userStart(), eUser);
+            correctResiduals(st.bu, null, false);
+        }
+
+        /** One side's biases from its residuals in that side's orientation, keeping the old ones. */
+        private void refitBiases(float[] bias, int rows, int[] start, double[] residual) {
+            workers.forEachChunk(rows, ROWS_PER_CHUNK, MIN_PARALLEL_ROWS, (w, from, to) -> {
+                for (int row = from; row < to; row++) {
+                    oldBias[row] = bias[row];
+                    int count = start[row + 1] - start[row];
                     if (count == 0) {
                         continue;
                     }
                     double sum = 0;
-                    for (int at = us[u]; at < us[u + 1]; at++) {
-                        sum += eUser[at] + bu[u];
+                    for (int at = start[row]; at < start[row + 1]; at++) {
+                        sum += residual[at] + bias[row];
                     }
-                    bu[u] = (float) (sum / (count + lambda * count));
+                    bias[row] = (float) (sum / (count + lambda * count));
                 }
             });
-            correctResiduals(bu, null, false);
         }
 
         /** After a bias column changed: e += old − new in both orientations. */

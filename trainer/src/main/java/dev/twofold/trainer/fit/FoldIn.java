@@ -171,7 +171,7 @@ public final class FoldIn {
         NormalEquations.clear(a, c, dim);
         addRatings(a, c, items, ratings, from, to, scratch);
         if (trustFactors != null && trustWeight > 0) {
-            NormalEquations.addTrust(a, c, scratch.row, rank, dim, trustWeight, trustAlpha, trustFactors, trustGram,
+            NormalEquations.addTrust(a, c, scratch.gathered, rank, dim, trustWeight, trustAlpha, trustFactors, trustGram,
                     trustees, trustWeights, trustFrom, trustTo);
         }
         addNeighbours(a, c, dim, trustees, trustWeights, trustFrom, trustTo, scratch.row);
@@ -191,7 +191,7 @@ public final class FoldIn {
         NormalEquations.clear(scratch.a, scratch.c, dim);
         addRatings(scratch.a, scratch.c, items, ratings, from, to, scratch);
         if (trustFactors != null && trustWeight > 0) {
-            NormalEquations.addTrust(scratch.a, scratch.c, scratch.row, rank, dim, trustWeight, trustAlpha, trustFactors,
+            NormalEquations.addTrust(scratch.a, scratch.c, scratch.gathered, rank, dim, trustWeight, trustAlpha, trustFactors,
                     trustGram, trustees, trustWeights, trustFrom, trustTo);
         }
         addNeighbours(scratch.a, scratch.c, dim, trustees, trustWeights, trustFrom, trustTo, scratch.row);

@@ -37,7 +37,7 @@ final class TrusteeStep {
         int from = trust.inStart()[v];
         int to = trust.inStart()[v + 1];
         NormalEquations.clear(scratch.a, scratch.c, rank);
-        NormalEquations.addTrust(scratch.a, scratch.c, scratch.row, rank, rank, tau, alpha, userFactors, userGram,
+        NormalEquations.addTrust(scratch.a, scratch.c, scratch.gathered, rank, rank, tau, alpha, userFactors, userGram,
                 trust.trusters(), trust.inWeights(), from, to);
         NormalEquations.addRidge(scratch.a, rank, (double) lambda * Math.max(to - from, 1));
         scratch.withBias = false;
