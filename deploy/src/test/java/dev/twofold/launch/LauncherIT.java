@@ -88,7 +88,7 @@ class LauncherIT {
             assertEquals(1, count("pg_roles where rolname = '" + trainer + "' and not rolcanlogin"));
             assertEquals(1, count("(select has_table_privilege('" + service + "', 'ratings', 'insert')"
                     + " and not has_table_privilege('" + service + "', 'model_item_factors', 'insert')"
-                    + " and has_table_privilege('" + trainer + "', 'model_item_factors', 'insert')) ok where ok"));
+                    + " and has_table_privilege('" + trainer + "', 'model_item_factors', 'insert') as ok) granted where ok"));
             LauncherProcess bad = LauncherProcess.run(env, work, "roles", "--service-role", "x; drop table ratings");
             assertEquals(65, bad.exitCode(), bad.describe());
         } finally {
