@@ -3,6 +3,7 @@ package dev.twofold.launch;
 import dev.twofold.db.BadInputException;
 import dev.twofold.db.TwofoldException;
 import dev.twofold.db.access.KeysCommand;
+import dev.twofold.db.access.RolesCommand;
 import dev.twofold.db.ingest.ImportCommand;
 import dev.twofold.db.ingest.UsersCommand;
 import dev.twofold.service.ServeCommand;
@@ -32,6 +33,7 @@ import picocli.CommandLine.Command;
             DemoDataCommand.class,
             DemoCommand.class,
             KeysCommand.class,
+            RolesCommand.class,
             UsersCommand.class,
             SweepCommand.class,
             CommandLine.HelpCommand.class,

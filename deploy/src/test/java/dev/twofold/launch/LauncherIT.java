@@ -75,6 +75,34 @@ class LauncherIT {
     }
 
     @Test
+    void roles_prints_its_sql_and_grants_the_two_roles_from_the_jar() throws Exception {
+        String service = "tf_it_service_" + ProcessHandle.current().pid();
+        String trainer = "tf_it_trainer_" + ProcessHandle.current().pid();
+        LauncherProcess print = LauncherProcess.run(env, work, "roles", "--print", "--service-role", service, "--trainer-role", trainer);
+        assertEquals(0, print.exitCode(), print.describe());
+        assertTrue(print.stdout().contains("grant select, insert, update, delete on ratings, trust to " + service), print.stdout());
+        assertEquals(0, count("pg_roles where rolname = '" + service + "'"), "--print changes nothing");
+
+        LauncherProcess roles = LauncherProcess.run(env, work, "roles", "--service-role", service, "--trainer-role", trainer);
+        assertEquals(0, roles.exitCode(), roles.describe());
+        try {
+            assertEquals(1, count("pg_roles where rolname = '" + service + "' and not rolcanlogin"));
+            assertEquals(1, count("pg_roles where rolname = '" + trainer + "' and not rolcanlogin"));
+            assertEquals(1, count("(select has_table_privilege('" + service + "', 'ratings', 'insert')"
+                    + " and not has_table_privilege('" + service + "', 'model_item_factors', 'insert')"
+                    + " and has_table_privilege('" + trainer + "', 'model_item_factors', 'insert') as ok) granted where ok"));
+            LauncherProcess bad = LauncherProcess.run(env, work, "roles", "--service-role", "x; drop table ratings");
+            assertEquals(65, bad.exitCode(), bad.describe());
+        } finally {
+            try (Connection c = database.dataSource().getConnection(); Statement s = c.createStatement()) {
+                s.execute("drop owned by " + service + ", " + trainer);
+                s.execute("drop role " + service);
+                s.execute("drop role " + trainer);
+            }
+        }
+    }
+
+    @Test
     void an_unknown_option_is_a_usage_error() throws Exception {
         LauncherProcess p = LauncherProcess.run(env, work, "train", "--no-such-option");
         assertEquals(2, p.exitCode(), p.describe());

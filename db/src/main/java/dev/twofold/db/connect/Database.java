@@ -308,6 +308,11 @@ public final class Database implements AutoCloseable {
                 throw new DatabaseUnavailableException("lost the connection to " + description + " while migrating the schema: "
                         + sql.getMessage(), e);
             }
+            if (sql != null && SqlFailures.INSUFFICIENT_PRIVILEGE.equals(sql.getSQLState())) {
+                throw new DatabaseFailureException("the schema of " + description + " needs migrating, and this database"
+                        + " user may not change it: " + sql.getMessage() + "; run any twofold command (twofold models list)"
+                        + " once as the owner of the tables, then start this one again", e);
+            }
             throw new DatabaseFailureException("migrating the schema of " + description + " failed: " + e.getMessage()
                     + "; the database may have been changed by hand or by a newer Twofold", e);
         }

@@ -164,8 +164,8 @@ final class CsvRecords implements AutoCloseable {
                 note("characters after the closing quote of a field");
                 return readUnquoted();
             }
-            if (b == '\n') {
-                physicalLine++;
+            if (b == '\n' || (b == '\r' && peek() != '\n')) {
+                physicalLine++; // line ends inside a quoted field count as outside: LF, CRLF (at its LF) or a lone CR
             }
             append(b);
             if (stopped) {

@@ -14,7 +14,7 @@ import java.time.format.DateTimeParseException;
  * <ul>
  *   <li>ids: 1..{@value #MAX_ID_CHARS} characters (Unicode code points), no leading or trailing
  *       whitespace (so {@code "ann"} and {@code "ann "} can never become two users by accident), no
- *       control characters;</li>
+ *       control characters, no half of a surrogate pair (text that has no UTF-8 form);</li>
  *   <li>rating: a plain decimal number ({@code 4}, {@code 3.5}, {@code 4e0}; not {@code NaN},
  *       {@code Infinity} or hex), finite as a float32, inside the scale;</li>
  *   <li>time: empty (unknown), epoch seconds (optionally with up to 6 decimals), or ISO-8601 with
@@ -25,6 +25,8 @@ import java.time.format.DateTimeParseException;
 public final class FieldRules {
 
     public static final int MAX_ID_CHARS = 128;
+    /** Most characters of a client's value quoted in a message. */
+    public static final int QUOTED_CHARS = 40;
     /** A time that is absent, in the micro-second representation of {@link #timeMicros}. */
     public static final long NO_TIME = Long.MIN_VALUE;
     /** 0001-01-01T00:00:00Z and 9999-12-31T23:59:59Z in epoch seconds. */
@@ -58,6 +60,15 @@ public final class FieldRules {
             if (Character.isISOControl(c)) {
                 throw new Refused(label + " '" + printable(value) + "' contains a control character (U+"
                         + String.format("%04X", (int) c) + ")");
+            }
+            if (Character.isHighSurrogate(c) && i + 1 < value.length() && Character.isLowSurrogate(value.charAt(i + 1))) {
+                i++; // a pair: one character outside the Basic Multilingual Plane
+            } else if (Character.isSurrogate(c)) {
+                // JSON can escape half a pair ("\ud800"); stored as UTF-8 it would turn into '?' and
+                // become another id, so it is refused rather than mangled.
+                throw new Refused(label + " '" + printable(value) + "' is not valid Unicode text: it has half of a"
+                        + " surrogate pair (U+" + String.format("%04X", (int) c) + ") at character "
+                        + (value.codePointCount(0, i) + 1));
             }
         }
     }
@@ -253,12 +264,21 @@ public final class FieldRules {
         return c >= '0' && c <= '9';
     }
 
-    private static String printable(String s) {
-        StringBuilder out = new StringBuilder(Math.min(s.length(), 40));
-        for (int i = 0; i < s.length() && out.length() < 40; i++) {
-            char c = s.charAt(i);
-            out.append(Character.isISOControl(c) ? '?' : c);
+    /**
+     * A client's value as it may be quoted in a message: at most {@value #QUOTED_CHARS} characters
+     * (cut between characters, never inside a surrogate pair) then "...", with control characters
+     * and half surrogate pairs shown as '?', so the message itself is plain, valid text.
+     */
+    public static String printable(String s) {
+        StringBuilder out = new StringBuilder(Math.min(s.length(), QUOTED_CHARS + 4));
+        int shown = 0;
+        int i = 0;
+        for (; i < s.length() && shown < QUOTED_CHARS; shown++) {
+            int cp = s.codePointAt(i);
+            int width = Character.charCount(cp);
+            out.appendCodePoint(Character.isISOControl(cp) || Character.isSurrogate((char) cp) && width == 1 ? '?' : cp);
+            i += width;
         }
-        return s.length() > 40 ? out + "..." : out.toString();
+        return i < s.length() ? out.append("...").toString() : out.toString();
     }
 }

@@ -182,7 +182,9 @@ public final class RatingWriter {
         }
         long[] removed = inTransaction("erasing a user", c -> {
             Integer idx = null;
-            try (PreparedStatement ps = c.prepareStatement("select idx from users where external_id = ? for update")) {
+            // Deleting the id first locks it like SELECT ... FOR UPDATE would, and needs only the DELETE
+            // privilege (the service's database role may not update users).
+            try (PreparedStatement ps = c.prepareStatement("delete from users where external_id = ? returning idx")) {
                 ps.setString(1, externalId);
                 try (var rs = ps.executeQuery()) {
                     if (rs.next()) {
@@ -197,8 +199,7 @@ public final class RatingWriter {
                     "delete from ratings where user_idx = ?",
                     "delete from trust where truster_idx = ? or trustee_idx = ?",
                     "delete from model_user_factors where user_idx = ?",
-                    "delete from model_trust_factors where user_idx = ?",
-                    "delete from users where idx = ?");
+                    "delete from model_trust_factors where user_idx = ?");
             long[] counts = new long[deletes.size()];
             for (int d = 0; d < deletes.size(); d++) {
                 try (PreparedStatement ps = c.prepareStatement(deletes.get(d))) {

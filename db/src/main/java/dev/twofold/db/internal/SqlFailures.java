@@ -10,6 +10,9 @@ import java.sql.SQLTransientConnectionException;
 /** Turns a JDBC failure into Twofold's exception family: unreachable server (69) or anything else (1). */
 public final class SqlFailures {
 
+    /** SQLSTATE of a statement the user has no privilege for (PostgreSQL manual, Appendix A). */
+    public static final String INSUFFICIENT_PRIVILEGE = "42501";
+
     private SqlFailures() {
     }
 
@@ -22,6 +25,11 @@ public final class SqlFailures {
         if (isConnectionFailure(e)) {
             return new DatabaseUnavailableException("lost or could not get a connection to " + where + " while " + doing
                     + ": " + e.getMessage() + "; check that PostgreSQL is running and reachable", e);
+        }
+        if (INSUFFICIENT_PRIVILEGE.equals(e.getSQLState())) {
+            return new DatabaseFailureException(doing + " failed on " + where + ": " + e.getMessage()
+                    + "; the database user may not do this (see \"Database roles\" in docs/operations.md: the service"
+                    + " and the trainer each have their own role, and only the tables' owner imports and migrates)", e);
         }
         return new DatabaseFailureException(doing + " failed on " + where + ": " + e.getMessage(), e);
     }

@@ -48,6 +48,41 @@ class FieldRulesTest {
     }
 
     @Test
+    void half_a_surrogate_pair_is_refused_because_utf_8_would_turn_it_into_another_id() throws FieldRules.Refused {
+        // Java's UTF-8 encoder (and so PgJDBC) writes an unpaired surrogate as '?': "a\uD800" would be stored as "a?".
+        assertEquals("a?", new String("a\uD800".getBytes(java.nio.charset.StandardCharsets.UTF_8),
+                java.nio.charset.StandardCharsets.UTF_8));
+        for (String bad : new String[] {"a\uD800", "\uDC00b", "a\uDC00\uD800b", "x\uD83C"}) {
+            FieldRules.Refused e = assertThrows(FieldRules.Refused.class, () -> FieldRules.id("user", bad), bad);
+            assertTrue(e.getMessage().contains("surrogate") && e.getMessage().startsWith("user '"), e.getMessage());
+            assertFalse(hasUnpairedSurrogate(e.getMessage()), "the message itself is valid text: " + e.getMessage());
+        }
+        FieldRules.id("user", "\uD83C\uDF72 soup"); // a whole pair is one character (U+1F372)
+    }
+
+    @Test
+    void quoted_values_are_cut_between_characters_and_show_control_characters_as_question_marks() {
+        String pairs = "\uD83C\uDF72".repeat(FieldRules.QUOTED_CHARS + 5);
+        String shown = FieldRules.printable(pairs);
+        assertEquals("\uD83C\uDF72".repeat(FieldRules.QUOTED_CHARS) + "...", shown);
+        assertEquals("a?b?c", FieldRules.printable("a\u0000b\nc"));
+        assertEquals("a?", FieldRules.printable("a\uDC00"));
+        assertEquals("x".repeat(FieldRules.QUOTED_CHARS), FieldRules.printable("x".repeat(FieldRules.QUOTED_CHARS)));
+    }
+
+    static boolean hasUnpairedSurrogate(String s) {
+        for (int i = 0; i < s.length(); i++) {
+            char c = s.charAt(i);
+            if (Character.isHighSurrogate(c) && i + 1 < s.length() && Character.isLowSurrogate(s.charAt(i + 1))) {
+                i++;
+            } else if (Character.isSurrogate(c)) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    @Test
     void a_no_break_space_at_the_edge_counts_as_whitespace() {
         assertThrows(FieldRules.Refused.class, () -> FieldRules.id("item", "pie\u00a0"));
     }

@@ -1,5 +1,6 @@
 package dev.twofold.service.http;
 
+import dev.twofold.db.ingest.FieldRules;
 import io.javalin.http.Context;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
@@ -27,13 +28,22 @@ final class RequestInput {
         return value;
     }
 
-    /** Why {@code value} is not a valid id ("has 0 characters; ids have 1..128"), or null when it is. */
+    /**
+     * Why {@code value} is not a valid id ("has 0 characters; ids have 1..128"), or null when it is.
+     * Ids read obey the rules of ids written ({@link FieldRules#id}): an id that could never have been
+     * stored is refused with the reason, not answered as an unknown user.
+     */
     static String idProblem(String value) {
         int chars = value.codePointCount(0, value.length());
         if (chars < Limits.MIN_ID_CHARS || chars > Limits.MAX_ID_CHARS) {
             return "has " + chars + " characters; ids have " + Limits.MIN_ID_CHARS + ".." + Limits.MAX_ID_CHARS;
         }
-        return null;
+        try {
+            FieldRules.id("id", value);
+            return null;
+        } catch (FieldRules.Refused e) {
+            return e.getMessage();
+        }
     }
 
     /** Query parameter {@code count}: {@link Limits#DEFAULT_COUNT} when absent, else an integer in 1..1000. */
@@ -44,7 +54,9 @@ final class RequestInput {
         }
         int count;
         try {
-            count = Integer.parseInt(raw.trim());
+            // Integer.parseInt also reads digits of other scripts ("１０"); the contract's integer is ASCII.
+            String digits = raw.trim();
+            count = digits.chars().allMatch(c -> c < 128) ? Integer.parseInt(digits) : Integer.MIN_VALUE;
         } catch (NumberFormatException e) {
             count = Integer.MIN_VALUE;
         }
@@ -119,8 +131,8 @@ final class RequestInput {
                 + Limits.MAX_BODY_BYTES + " bytes (1 MiB) are accepted");
     }
 
-    /** A client's value quoted in a detail, cut to a readable length. */
+    /** A client's value quoted in a detail: cut to a readable length, never inside a character, control characters as '?'. */
     static String shorten(String value) {
-        return value.length() <= 40 ? value : value.substring(0, 37) + "...";
+        return FieldRules.printable(value);
     }
 }
