@@ -92,8 +92,9 @@ class HostileInputTest {
         for (String target : List.of("/v1/users/../models", "/v1/users/%2e%2e/models", "/v1/users/..%2F..%2Fv1%2Fmodels",
                 "/v1/items/%2e%2e%2f%2e%2e%2fmodels/similar")) {
             RawHttp.Response response = RawHttp.exchange(port, "GET", target.getBytes(StandardCharsets.US_ASCII), null, null);
-            assertTrue(response.status() == 404 || response.status() == 400 || response.status() == 200, target + " -> "
-                    + response.status());
+            // 405: one encoded segment lands on /v1/users/{user}, which only answers DELETE (erasure)
+            assertTrue(response.status() == 404 || response.status() == 400 || response.status() == 200
+                    || response.status() == 405, target + " -> " + response.status());
             assertTrue(!response.bodyText().contains("\"models\""), target + " listed the models: " + response.bodyText());
         }
         for (String target : List.of("/v1/users/%ff%fe/recommendations", "/v1/users/%ed%a0%80/recommendations",
