@@ -25,7 +25,7 @@ import java.util.Locale;
 
 /**
  * The held-out evaluation of a nightly retrain at the size of the contract, without the database: a
- * cooking community of 40,000 cooks and 20,000 recipes (about 1.2 M ratings), 20% of each cook's
+ * cooking community of 40,000 cooks and 20,000 recipes (about 1.9 M ratings), 20% of each cook's
  * ratings held out, and the five scorers a retrain judges — the model (default settings), the
  * biases-only, most-popular and without-trust baselines, and a "live" model (the same settings,
  * another seed) — each ranked over all items its user did not rate in training: one scorer at a

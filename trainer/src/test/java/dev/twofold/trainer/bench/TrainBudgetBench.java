@@ -26,6 +26,9 @@ import java.util.Locale;
  * Prints the time of each phase.
  *
  * <p>Arguments: {@code ratings=1000000 threads=2 solver=als}.
+ * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
+ *
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.TrainBudgetBench [name=value ...]</pre>
  */
 public final class TrainBudgetBench {
 
