@@ -1,5 +1,6 @@
 package dev.twofold.trainer.bench;
 
+import dev.twofold.db.progress.Progress;
 import dev.twofold.trainer.data.RatingMatrix;
 import dev.twofold.trainer.evaluate.Baselines;
 import dev.twofold.trainer.evaluate.EvaluationSettings;
@@ -10,7 +11,6 @@ import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
 import dev.twofold.trainer.fit.SolverKind;
 import dev.twofold.trainer.fit.TrainingData;
-import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.split.PerUserHoldout;
 import dev.twofold.trainer.split.Split;
 import dev.twofold.trainer.sweep.Sweep;
