@@ -167,7 +167,8 @@ public final class FieldRules {
         }
         int intDigits = i - intStart;
         int fracDigits = 0;
-        if (i < n && text.charAt(i) == '.') {
+        boolean point = i < n && text.charAt(i) == '.';
+        if (point) {
             i++;
             int fracStart = i;
             while (i < n && isDigit(text.charAt(i))) {
@@ -180,6 +181,9 @@ public final class FieldRules {
         }
         if (intDigits > 12) {
             throw new Refused("time " + text + " is too large for epoch seconds (milliseconds?); use seconds or ISO-8601");
+        }
+        if (!point) {
+            return Instant.ofEpochSecond(Long.parseLong(text)); // whole seconds, the common case: no decimal arithmetic
         }
         java.math.BigDecimal seconds = new java.math.BigDecimal(text);
         long whole = seconds.setScale(0, java.math.RoundingMode.FLOOR).longValueExact();

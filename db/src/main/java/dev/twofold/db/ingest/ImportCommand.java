@@ -2,16 +2,17 @@ package dev.twofold.db.ingest;
 
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
+import dev.twofold.db.progress.Progress;
 import java.io.PrintWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Locale;
 import java.util.Map;
 import java.util.concurrent.Callable;
-import picocli.CommandLine;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
+import picocli.CommandLine;
 
 /**
  * {@code twofold import}: loads a ratings file, a trust file or both in one transaction, merging
@@ -84,7 +85,7 @@ public final class ImportCommand implements Callable<Integer> {
         DatabaseSettings settings = DatabaseSettings.fromEnvironment(environment);
         ImportReport report;
         try (Database db = Database.open(settings)) {
-            report = new Importer(db, scale, quiet ? ImportProgress.NONE : ConsoleProgress.onStandardError())
+            report = new Importer(db, scale, quiet ? ImportProgress.NONE : ImportProgress.showing(Progress.forConsole("import")))
                     .importFiles(ratings, trust, importMode);
         }
         PrintWriter out = spec.commandLine().getOut();

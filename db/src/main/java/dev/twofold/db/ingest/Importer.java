@@ -606,12 +606,12 @@ public final class Importer {
                 try {
                     String user = csv.field(0);
                     String item = csv.field(1);
-                    FieldRules.id("user", user);
-                    FieldRules.id("item", item);
+                    int u = checkedLocal(users, "user", user);
+                    int i = checkedLocal(items, "item", item);
                     float rating = FieldRules.rating(csv.field(2), scale);
                     long us = columns == 4 ? FieldRules.timeMicros(csv.field(3)) : FieldRules.NO_TIME;
                     if (!problems.any()) {
-                        rows.add(users.local(user), items.local(item), rating, us);
+                        rows.add(u >= 0 ? u : users.local(user), i >= 0 ? i : items.local(item), rating, us);
                     }
                 } catch (FieldRules.Refused r) {
                     problems.add(name + ":" + line, r.getMessage());
@@ -648,12 +648,13 @@ public final class Importer {
                 try {
                     String truster = csv.field(0);
                     String trustee = csv.field(1);
-                    FieldRules.id("truster", truster);
-                    FieldRules.id("trustee", trustee);
+                    int a = checkedLocal(users, "truster", truster);
+                    int b = checkedLocal(users, "trustee", trustee);
                     FieldRules.notSelfTrust(truster, trustee);
                     float weight = columns == 3 ? FieldRules.weight(csv.field(2)) : 1f;
                     if (!problems.any()) {
-                        rows.add(users.local(truster), users.local(trustee), weight);
+                        a = a >= 0 ? a : users.local(truster);
+                        rows.add(a, b >= 0 ? b : users.local(trustee), weight);
                     }
                 } catch (FieldRules.Refused r) {
                     problems.add(name + ":" + line, r.getMessage());
@@ -661,6 +662,18 @@ public final class Importer {
             }
             progress.finish(records + " rows");
         }
+    }
+
+    /**
+     * The local id of an id already met (it was checked then), or -1 after checking a new one with
+     * {@link FieldRules#id}: each distinct id is checked once, not on every row that names it.
+     */
+    private static int checkedLocal(IdDictionary ids, String label, String id) throws FieldRules.Refused {
+        int known = ids.find(id);
+        if (known < 0) {
+            FieldRules.id(label, id);
+        }
+        return known;
     }
 
     /** Checks the header; returns the number of columns, or -1 after recording why the file cannot be read. */

@@ -20,6 +20,9 @@ class FieldRulesTest {
         assertEquals(expected + 250_000, FieldRules.timeMicros("1714588200.25"));
         assertEquals(expected + 123_456, FieldRules.timeMicros("2024-05-01T18:30:00.123456Z"));
         assertEquals(-1_000_000L, FieldRules.timeMicros("-1"));
+        assertEquals(expected, FieldRules.timeMicros("+1714588200"));
+        assertEquals(expected, FieldRules.timeMicros("1714588200."));
+        assertEquals(-1_500_000L, FieldRules.timeMicros("-1.5"));
         assertEquals(FieldRules.NO_TIME, FieldRules.timeMicros(""));
         assertEquals(Instant.parse("2024-05-01T18:30:00Z"), FieldRules.parseTime("1714588200"));
     }

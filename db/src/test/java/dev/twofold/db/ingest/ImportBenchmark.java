@@ -17,7 +17,8 @@ import java.util.SplittableRandom;
  * Import throughput: {@code RATINGS} ratings and {@code TRUST} trust edges of a generated cooking
  * community into an embedded server (durable settings) in a fresh data directory, then the same files
  * again (everything already stored), then reads the snapshot and the id maps back. Not a test; run with
- * {@code java -cp db/target/test-classes:db/target/classes:$(deps) dev.twofold.db.ingest.ImportBenchmark [dataDir]}.
+ *
+ * <pre>deploy/bench db dev.twofold.db.ingest.ImportBenchmark [dataDir]</pre>
  */
 public final class ImportBenchmark {
 

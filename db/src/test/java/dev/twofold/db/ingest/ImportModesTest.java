@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import dev.twofold.db.BadInputException;
 import dev.twofold.db.connect.Database;
+import dev.twofold.db.progress.Progress;
 import dev.twofold.db.testing.TestDatabases;
 import java.io.IOException;
 import java.io.PrintWriter;
@@ -202,7 +203,7 @@ class ImportModesTest {
     void plain_progress_lines_appear_only_for_phases_that_run_long() {
         StringWriter out = new StringWriter();
         AtomicLong clock = new AtomicLong();
-        ConsoleProgress p = new ConsoleProgress(new PrintWriter(out), false, clock::get, () -> 0L);
+        ImportProgress p = ImportProgress.showing(new Progress(new PrintWriter(out), false, clock::get, () -> 0L, "import"));
         p.start("reading ratings.csv", 1000);
         clock.addAndGet(1_000_000_000L);
         p.advance(100);
@@ -210,11 +211,11 @@ class ImportModesTest {
         assertEquals("", out.toString(), "a phase shorter than the log interval logs nothing");
 
         p.start("writing ratings", 1000);
-        clock.addAndGet(ConsoleProgress.LOG_INTERVAL_MS * 1_000_000L);
+        clock.addAndGet(Progress.LOG_INTERVAL_MS * 1_000_000L);
         p.advance(250);
         clock.addAndGet(1_000_000_000L);
         p.advance(300); // within the interval: no line
-        clock.addAndGet(ConsoleProgress.LOG_INTERVAL_MS * 1_000_000L);
+        clock.addAndGet(Progress.LOG_INTERVAL_MS * 1_000_000L);
         p.finish("1000 ratings written");
         assertEquals("""
                 1970-01-01T00:00:00Z import: writing ratings 25%, 0:05 elapsed, ETA 0:15

@@ -9,7 +9,8 @@ import java.util.SplittableRandom;
 /**
  * Factor store and load throughput: {@code USERS} users and {@code ITEMS} items at rank {@code RANK}
  * with shared trust factors. Not a test; run with
- * {@code java -cp db/target/test-classes:db/target/classes:$(deps) dev.twofold.db.registry.RegistryBenchmark}.
+ *
+ * <pre>deploy/bench db dev.twofold.db.registry.RegistryBenchmark</pre>
  */
 public final class RegistryBenchmark {
 

@@ -46,6 +46,35 @@ public final class TopK {
     }
 
     /**
+     * Offers items {@code firstItem .. firstItem + count − 1} with scores {@code scores[offset ..
+     * offset + count)}, in that order: the same as calling {@link #offer} for each, but a candidate is
+     * looked at only when it is at least the worst kept score, which once the heap is full is one
+     * comparison for almost every item.
+     */
+    public void offerAll(double[] scores, int offset, int count, int firstItem) {
+        int end = offset + count;
+        for (int at = nextAtLeast(scores, offset, end, floor()); at < end;
+                at = nextAtLeast(scores, at + 1, end, floor())) {
+            offer(firstItem + at - offset, scores[at]);
+        }
+    }
+
+    /** The first position in {@code from..to-1} whose score is at least {@code floor} (never a NaN), or {@code to}. */
+    private static int nextAtLeast(double[] scores, int from, int to, double floor) {
+        for (int at = from; at < to; at++) {
+            if (scores[at] >= floor) {
+                return at;
+            }
+        }
+        return to;
+    }
+
+    /** The score a candidate must at least reach to be looked at: the worst kept one, once the heap is full. */
+    private double floor() {
+        return size < capacity ? Double.NEGATIVE_INFINITY : scores[0];
+    }
+
+    /**
      * Writes the kept items best first into {@code out[0..size)} and empties the heap.
      *
      * @return how many items were written

@@ -4,6 +4,7 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.internal.PausePoint;
+import dev.twofold.db.progress.Progress;
 import dev.twofold.db.registry.ModelFactors;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.registry.ModelRegistry;
@@ -11,7 +12,6 @@ import dev.twofold.db.registry.RetrainLock;
 import dev.twofold.db.snapshot.Snapshot;
 import dev.twofold.db.snapshot.SnapshotReader;
 import dev.twofold.trainer.TrainerException;
-import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Baselines;
 import dev.twofold.trainer.evaluate.Evaluator;
 import dev.twofold.trainer.evaluate.Scorer;
@@ -20,7 +20,6 @@ import dev.twofold.trainer.fit.EpochListener;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
-import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.sweep.Sweep;
 import dev.twofold.trainer.sweep.SweepPoint;
 import dev.twofold.trainer.sweep.SweepResult;
@@ -50,10 +49,12 @@ import org.slf4j.LoggerFactory;
  *       keep the one with the lowest validation RMSE, and its best epoch count; register a new
  *       model version with status {@code training};
  *   <li><b>fit</b> the model on all training ratings and all trust edges;
- *   <li><b>evaluate</b> it on the held-out ratings, and the <b>baselines</b> (global mean, biases only,
- *       most popular, the same model without trust);
- *   <li><b>compare</b>: the live model's stored factors are judged on the same held-out rows with the
- *       same figures, and the {@link QualityGate} decides whether the candidate may replace it;
+ *   <li><b>baselines</b>: fit the biases-only model and the same model without trust;
+ *   <li><b>live</b>: load the live model's stored factors, if there is a live model;
+ *   <li><b>evaluate</b> the model, the baselines (global mean, biases only, most popular, without
+ *       trust) and the live model on the same held-out ratings with the same figures, ranking them
+ *       all in one pass ({@link Baselines#judge});
+ *   <li><b>compare</b>: the {@link QualityGate} decides whether the candidate may replace the live model;
  *   <li><b>store</b> the factors, with item popularity = the number of training ratings at or above
  *       the relevance threshold (what serving uses for people nobody knows);
  *   <li><b>promote</b> per {@link PromotionPolicy}: {@code auto} promotes when the gate passes and
@@ -163,25 +164,30 @@ public final class TrainJob {
             requireFinite(model);
             t = lap(phases, "fit", t);
 
-            SegmentFigures figures = evaluator.evaluate(Scorer.of(model));
-            t = lap(phases, "evaluate", t);
-            progress.note("fitting and judging the baselines");
+            progress.note("fitting the baselines");
             float[] popularity = data.train().countAtLeast(settings.relevance());
-            BaselineFigures baselines = Baselines.evaluate(evaluator, data.trainingData(), chosen.fit(), popularity,
-                    solver);
+            Baselines baselines = Baselines.fit(data.trainingData(), chosen.fit(), popularity, solver);
             t = lap(phases, "baselines", t);
 
             Optional<ModelHeader> active = registry.active();
             Long liveId = null;
-            SegmentFigures live = null;
+            Scorer liveScorer = null;
             List<String> notes = new ArrayList<>();
             if (active.isPresent()) {
                 liveId = active.get().id();
-                FittedModel stored = StoredModel.scorerOf(active.get(), registry.loadFactors(liveId),
-                        snapshot.numUsers(), snapshot.numItems());
-                live = evaluator.evaluate(Scorer.of(stored));
+                liveScorer = Scorer.of(StoredModel.scorerOf(active.get(), registry.loadFactors(liveId),
+                        snapshot.numUsers(), snapshot.numItems()));
                 splitNote(active.get()).ifPresent(notes::add);
             }
+            t = lap(phases, "live", t);
+
+            progress.note("ranking every item for every user with held-out favourites: the model, its baselines"
+                    + (liveId == null ? "" : " and live model " + liveId));
+            Baselines.Judgement judged = baselines.judge(evaluator, Scorer.of(model), liveScorer);
+            SegmentFigures figures = judged.model();
+            SegmentFigures live = judged.live();
+            t = lap(phases, "evaluate", t);
+
             QualityGate.Verdict verdict = publish.gate().judge(figures.overall(), live == null ? null : live.overall(),
                     liveId == null ? 0 : liveId, settings.k());
             Decision decision = decide(verdict);
@@ -193,7 +199,7 @@ public final class TrainJob {
             registry.storeFactors(id, StoredModel.factorsOf(model, popularity));
             t = lap(phases, "store", t);
 
-            report = new TrainReport(id, decision, reason, chosen, publish, counts, phases, figures, baselines, liveId,
+            report = new TrainReport(id, decision, reason, chosen, publish, counts, phases, figures, judged.baselines(), liveId,
                     decision == Decision.PROMOTED ? Long.valueOf(id) : liveId, live, verdict, List.copyOf(notes), recovered,
                     List.of(), model.history(), tuning.why(), tuning.sweep());
             if (decision == Decision.PROMOTED) {

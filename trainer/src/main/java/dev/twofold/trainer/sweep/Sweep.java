@@ -1,5 +1,6 @@
 package dev.twofold.trainer.sweep;
 
+import dev.twofold.db.progress.Progress;
 import dev.twofold.trainer.data.RatingMatrix;
 import dev.twofold.trainer.evaluate.EvaluationSettings;
 import dev.twofold.trainer.evaluate.Evaluator;
@@ -10,7 +11,6 @@ import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
 import dev.twofold.trainer.fit.TrainingData;
 import dev.twofold.trainer.fit.ValidationSet;
-import dev.twofold.trainer.progress.Progress;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;

@@ -2,13 +2,13 @@ package dev.twofold.trainer.sweep;
 
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.connect.DatabaseSettings;
+import dev.twofold.db.progress.Progress;
 import dev.twofold.db.snapshot.Snapshot;
 import dev.twofold.db.snapshot.SnapshotReader;
 import dev.twofold.trainer.TrainerException;
 import dev.twofold.trainer.fit.Coupling;
 import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.SolverKind;
-import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.publish.HeldOutData;
 import dev.twofold.trainer.publish.TrainSettings;
 import dev.twofold.trainer.split.SplitMethod;

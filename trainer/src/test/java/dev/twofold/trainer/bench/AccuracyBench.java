@@ -25,6 +25,9 @@ import java.util.Locale;
  *
  * <p>Arguments (all optional): {@code rank=8 lambda=0.04 shared=0.1 neighbour=2 epochs=20 seed=7
  * cooks=2000 recipes=500 solvers=als,ccd,greedy couplings=shared,neighbour,none}.
+ * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
+ *
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.AccuracyBench [name=value ...]</pre>
  */
 public final class AccuracyBench {
 

@@ -1,5 +1,6 @@
 package dev.twofold.trainer.bench;
 
+import dev.twofold.db.progress.Progress;
 import dev.twofold.trainer.data.RatingMatrix;
 import dev.twofold.trainer.data.TrustGraph;
 import dev.twofold.trainer.evaluate.EvaluationSettings;
@@ -13,7 +14,6 @@ import dev.twofold.trainer.fit.TrainingData;
 import dev.twofold.trainer.planted.CommunitySpec;
 import dev.twofold.trainer.planted.CookingCommunity;
 import dev.twofold.trainer.planted.PlantedCommunity;
-import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.publish.TrainSettings;
 import dev.twofold.trainer.split.PerUserHoldout;
 import dev.twofold.trainer.split.Split;
@@ -29,6 +29,9 @@ import java.util.Locale;
  * stopping. Prints the best validation RMSE per coupling and weight. The held-out rows are not used.
  *
  * <p>Arguments: {@code ranks=4,8,16 lambdas=0.02,0.04,0.08 shared=0.03,0.1,0.3 neighbour=0.5,2,8 solver=als}.
+ * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
+ *
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.DefaultsBench [name=value ...]</pre>
  */
 public final class DefaultsBench {
 

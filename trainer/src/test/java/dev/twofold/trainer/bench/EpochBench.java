@@ -26,6 +26,9 @@ import org.ejml.dense.row.RandomMatrices_DDRM;
  * EJML's dense matrix multiply measured in the same run (single-threaded and with 2 threads).
  *
  * <p>Arguments: {@code rank=32 threads=2 epochs=7 ratings=1000000 couplings=none,shared,neighbour solver=als}.
+ * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
+ *
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.EpochBench [name=value ...]</pre>
  */
 public final class EpochBench {
 

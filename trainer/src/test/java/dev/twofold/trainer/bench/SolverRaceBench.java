@@ -22,6 +22,9 @@ import java.util.Locale;
  * fit to warm the JIT up.
  *
  * <p>Arguments: {@code ratings=300000 rank=16 threads=2 epochs=30 slack=0.005 couplings=neighbour,none}.
+ * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
+ *
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.SolverRaceBench [name=value ...]</pre>
  */
 public final class SolverRaceBench {
 

@@ -1,7 +1,7 @@
 package dev.twofold.trainer.bench;
 
+import dev.twofold.db.progress.Progress;
 import dev.twofold.trainer.data.RatingMatrix;
-import dev.twofold.trainer.evaluate.BaselineFigures;
 import dev.twofold.trainer.evaluate.Baselines;
 import dev.twofold.trainer.evaluate.EvaluationSettings;
 import dev.twofold.trainer.evaluate.Evaluator;
@@ -11,7 +11,6 @@ import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.Solver;
 import dev.twofold.trainer.fit.SolverKind;
 import dev.twofold.trainer.fit.TrainingData;
-import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.split.PerUserHoldout;
 import dev.twofold.trainer.split.Split;
 import dev.twofold.trainer.sweep.Sweep;
@@ -23,9 +22,13 @@ import java.util.Locale;
  * The computing part of {@code twofold train} with default settings on 1,000,000 ratings (no
  * database: reading the snapshot and storing the model are measured elsewhere): the held-out split,
  * the validation split, the default sweep (ranks 4, 8, 16 × λ 0.01, 0.02, 0.04, early stopping), the
- * final fit, the evaluation and the baselines. Prints the time of each phase.
+ * final fit, fitting the baselines, and the evaluation of the model and the baselines (one ranking pass).
+ * Prints the time of each phase.
  *
  * <p>Arguments: {@code ratings=1000000 threads=2 solver=als}.
+ * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
+ *
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.TrainBudgetBench [name=value ...]</pre>
  */
 public final class TrainBudgetBench {
 
@@ -82,15 +85,16 @@ public final class TrainBudgetBench {
         FittedModel model = solver.fit(data, chosen);
         long t3 = System.nanoTime();
         Evaluator evaluator = new Evaluator(train, test, ev);
-        double rmse = evaluator.evaluate(Scorer.of(model)).overall().rmse();
+        Baselines baselines = Baselines.fit(data, chosen, train.countAtLeast(4f), solver);
         long t4 = System.nanoTime();
-        BaselineFigures baselines = Baselines.evaluate(evaluator, data, chosen, train.countAtLeast(4f), solver);
+        Baselines.Judgement judged = baselines.judge(evaluator, Scorer.of(model), null);
+        double rmse = judged.model().overall().rmse();
         long t5 = System.nanoTime();
         System.out.print(sweep.table());
         System.out.println(sweep.why());
-        System.out.printf(Locale.ROOT, "splits %.1f s, sweep %.1f s, fit %.1f s, evaluate %.1f s, baselines %.1f s: "
+        System.out.printf(Locale.ROOT, "splits %.1f s, sweep %.1f s, fit %.1f s, baselines %.1f s, evaluate %.1f s: "
                 + "total %.1f s; held-out RMSE %.4f (without trust %.4f)%n", (t1 - t0) / 1e9, (t2 - t1) / 1e9,
                 (t3 - t2) / 1e9, (t4 - t3) / 1e9, (t5 - t4) / 1e9, (t5 - t0) / 1e9, rmse,
-                baselines.withoutTrust().overall().rmse());
+                judged.baselines().withoutTrust().overall().rmse());
     }
 }

@@ -37,6 +37,34 @@ class TopKTest {
     }
 
     @Test
+    void offering_a_run_of_items_keeps_what_offering_them_one_by_one_keeps() {
+        Random random = new Random(29);
+        for (int trial = 0; trial < 200; trial++) {
+            int n = 1 + random.nextInt(400);
+            int k = 1 + random.nextInt(15);
+            double[] scores = new double[n + 3];
+            for (int i = 0; i < scores.length; i++) {
+                int kind = random.nextInt(10);
+                scores[i] = kind == 0 ? Double.NaN : kind == 1 ? Double.NEGATIVE_INFINITY : random.nextInt(20); // ties
+            }
+            TopK one = new TopK(k);
+            TopK run = new TopK(k);
+            int offset = 3;
+            for (int from = 0; from < n; from += 37) { // runs of 37 items, as blocks
+                int count = Math.min(37, n - from);
+                for (int i = from; i < from + count; i++) {
+                    one.offer(i, scores[offset + i]);
+                }
+                run.offerAll(scores, offset + from, count, from);
+            }
+            int[] a = new int[k];
+            int[] b = new int[k];
+            assertEquals(one.drainBestFirst(a), run.drainBestFirst(b), "trial " + trial);
+            assertArrayEquals(a, b, "trial " + trial);
+        }
+    }
+
+    @Test
     void ignores_nan_scores() {
         TopK heap = new TopK(3);
         heap.offer(0, Double.NaN);

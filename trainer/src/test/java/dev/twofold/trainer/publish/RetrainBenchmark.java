@@ -28,7 +28,7 @@ import java.util.SplittableRandom;
  * first (the nightly case: the live model is evaluated on the same held-out rows too). Prints the
  * time of every phase. Not a test:
  *
- * <pre>deploy/bench trainer dev.twofold.trainer.publish.RetrainBenchmark [dataDir]</pre>
+ * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.publish.RetrainBenchmark [dataDir]</pre>
  *
  * Targets (PRODUCT.md): import ≤ 10 s; train, evaluate and store a model ≤ 60 s on 2 cores.
  */

@@ -4,6 +4,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertSame;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import dev.twofold.db.progress.Progress;
 import dev.twofold.trainer.data.RatingMatrix;
 import dev.twofold.trainer.data.TrustGraph;
 import dev.twofold.trainer.evaluate.EvaluationSettings;
@@ -13,7 +14,6 @@ import dev.twofold.trainer.fit.TrainingData;
 import dev.twofold.trainer.planted.CommunitySpec;
 import dev.twofold.trainer.planted.CookingCommunity;
 import dev.twofold.trainer.planted.PlantedCommunity;
-import dev.twofold.trainer.progress.Progress;
 import dev.twofold.trainer.split.PerUserHoldout;
 import dev.twofold.trainer.split.Split;
 import java.io.ByteArrayInputStream;

@@ -1,4 +1,4 @@
-package dev.twofold.trainer.progress;
+package dev.twofold.db.progress;
 
 import java.io.OutputStreamWriter;
 import java.io.PrintWriter;
@@ -10,18 +10,29 @@ import java.util.Locale;
 import java.util.function.LongSupplier;
 
 /**
- * Shows how far long work has come. On a terminal ({@code System.console() != null}) a task is one
- * line redrawn in place, a bar with the share done, the time spent and the estimated time left; in a
- * log (a pipe, a file, a scheduler) it is plain timestamped lines, one every
- * {@link #LOG_INTERVAL_MS} ms at most (and at the end of each task), so logs stay short but show the
- * job is alive.
+ * Shows how far long work has come, for every command (import, train, sweep). On a terminal
+ * ({@code System.console() != null}) a task is one line redrawn in place: a bar, how much is done,
+ * the time spent and the estimated time left. In a log (a pipe, a file, a scheduler) it is plain
+ * timestamped lines, at most one every {@link #LOG_INTERVAL_MS} ms per task, so logs stay short but
+ * show the job is alive.
  *
- * <p>The estimate assumes the remaining steps take as long on average as those done so far.
+ * <p>Two kinds of task:
+ * <ul>
+ *   <li>{@link #start steps} (epochs, sweep settings): each step is news, so a log gets a line at the
+ *       first step, then at most one per interval, and one at the end; shown as {@code done/total};
+ *   <li>{@link #startAmount amounts} (bytes read, rows written): only a slow phase is news, so nothing
+ *       is shown until it has run for a redraw interval (terminal) or {@link #LOG_INTERVAL_MS} (log),
+ *       and its end only if something was shown or it ran that long — short phases stay silent;
+ *       shown as a percentage.
+ * </ul>
+ *
+ * <p>The estimate assumes the rest goes as fast on average as what is done. Not thread-safe: a task
+ * is advanced by the thread doing the work.
  */
 public final class Progress {
 
-    /** Least time between two plain log lines of one task. */
-    public static final long LOG_INTERVAL_MS = 10_000;
+    /** Least time between two plain log lines of one task, and how long an amount runs before it logs at all. */
+    public static final long LOG_INTERVAL_MS = 5_000;
     /** Least time between two redraws of the bar. */
     public static final long REDRAW_INTERVAL_MS = 100;
     private static final int BAR_WIDTH = 24;
@@ -39,7 +50,7 @@ public final class Progress {
      * @param terminal   draw a bar (true) or write plain lines (false)
      * @param clockNanos monotonic clock, {@link System#nanoTime} outside tests
      * @param wallMillis wall clock for the timestamps of plain lines
-     * @param name       prefix of every line, e.g. the command
+     * @param name       prefix of every plain line: the command
      */
     public Progress(PrintWriter out, boolean terminal, LongSupplier clockNanos, LongSupplier wallMillis, String name) {
         this.out = out;
@@ -60,9 +71,17 @@ public final class Progress {
         return new Progress(null, false, System::nanoTime, System::currentTimeMillis, "");
     }
 
-    /** Starts a task of {@code total} steps (at least 1). */
+    /** Starts a task of {@code total} steps (at least 1), shown as done/total. */
     public Task start(String what, long total) {
-        return new Task(what, Math.max(1, total));
+        return new Task(what, Math.max(1, total), false);
+    }
+
+    /**
+     * Starts a task measured in an amount (bytes, rows; {@code total} at least 1), shown as a
+     * percentage and silent unless it runs long.
+     */
+    public Task startAmount(String what, long total) {
+        return new Task(what, Math.max(1, total), true);
     }
 
     /** A line on its own (a choice made, a phase finished). */
@@ -78,25 +97,34 @@ public final class Progress {
         return STAMP.format(Instant.ofEpochMilli(wallMillis.getAsLong()));
     }
 
-    /** One piece of long work, advanced step by step. */
+    /** One piece of long work, advanced by the thread doing it. */
     public final class Task {
         private final String what;
         private final long total;
+        private final boolean amount;
         private final long startNanos;
-        private long lastShownNanos = Long.MIN_VALUE;
+        private long lastShownNanos;
+        private boolean shown;
         private long done;
         private boolean finished;
 
-        private Task(String what, long total) {
+        private Task(String what, long total, boolean amount) {
             this.what = what;
             this.total = total;
+            this.amount = amount;
             this.startNanos = clockNanos.getAsLong();
+            this.lastShownNanos = startNanos;
         }
 
-        /** Records that {@code doneSoFar} steps are done; {@code detail} (may be empty) is shown beside. */
+        /** Records that {@code doneSoFar} of the total are done; {@code detail} (may be empty) is shown beside. */
         public void advance(long doneSoFar, String detail) {
             done = Math.min(total, Math.max(0, doneSoFar));
-            show(detail, false, false);
+            long now = clockNanos.getAsLong();
+            long interval = (terminal ? REDRAW_INTERVAL_MS : LOG_INTERVAL_MS) * 1_000_000L;
+            boolean firstStep = !amount && !shown;
+            if (firstStep || now - lastShownNanos >= interval) {
+                show(now, detail, false);
+            }
         }
 
         /**
@@ -104,44 +132,50 @@ public final class Progress {
          * such as the epochs of a fit with their objective.
          */
         public void advanceAndLog(long doneSoFar, String detail) {
+            if (terminal) {
+                advance(doneSoFar, detail);
+                return;
+            }
             done = Math.min(total, Math.max(0, doneSoFar));
-            show(detail, false, true);
+            show(clockNanos.getAsLong(), detail, false);
         }
 
-        /** Ends the task (steps not done are counted as done). Safe to call twice. */
+        /** Ends the task (what is not done counts as done). Safe to call twice. */
         public void finish(String detail) {
             if (finished) {
                 return;
             }
             finished = true;
             done = total;
-            show(detail, true, false);
+            long now = clockNanos.getAsLong();
+            if (!amount || shown || now - startNanos >= LOG_INTERVAL_MS * 1_000_000L) {
+                show(now, detail, true);
+            }
         }
 
-        private void show(String detail, boolean last, boolean always) {
+        private void show(long now, String detail, boolean last) {
+            lastShownNanos = now;
+            shown = true;
             if (out == null) {
                 return;
             }
-            long now = clockNanos.getAsLong();
-            long interval = (terminal ? REDRAW_INTERVAL_MS : LOG_INTERVAL_MS) * 1_000_000L;
-            if (!last && !(always && !terminal) && lastShownNanos != Long.MIN_VALUE && now - lastShownNanos < interval) {
-                return;
-            }
-            lastShownNanos = now;
             double elapsed = (now - startNanos) / 1e9;
             String left = done == 0 || last ? "" : "ETA " + duration(elapsed * (total - done) / done);
             String extra = detail == null || detail.isEmpty() ? "" : "  " + detail;
+            int percent = (int) (100 * done / total);
             if (terminal) {
                 int filled = (int) (BAR_WIDTH * done / total);
                 String bar = "#".repeat(filled) + ".".repeat(BAR_WIDTH - filled);
-                out.print(String.format(Locale.ROOT, "\r%s [%s] %d/%d  %s  %s%s\u001b[K", what, bar, done, total,
+                String count = amount ? String.format(Locale.ROOT, "%3d%%", percent) : done + "/" + total;
+                out.print(String.format(Locale.ROOT, "\r%s [%s] %s  %s  %s%s\u001b[K", what, bar, count,
                         duration(elapsed), left, extra));
                 if (last) {
                     out.println();
                 }
             } else {
-                out.println(String.format(Locale.ROOT, "%s %s: %s %d/%d (%d%%), %s elapsed%s%s", stamp(), name, what,
-                        done, total, 100 * done / total, duration(elapsed), left.isEmpty() ? "" : ", " + left, extra));
+                String count = amount ? percent + "%" : String.format(Locale.ROOT, "%d/%d (%d%%)", done, total, percent);
+                out.println(String.format(Locale.ROOT, "%s %s: %s %s, %s elapsed%s%s", stamp(), name, what, count,
+                        duration(elapsed), left.isEmpty() ? "" : ", " + left, extra));
             }
             out.flush();
         }

@@ -1,4 +1,4 @@
-package dev.twofold.trainer.progress;
+package dev.twofold.db.progress;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
@@ -65,6 +65,39 @@ class ProgressTest {
         String[] lines = text.toString().split("\n");
         assertEquals(2, lines.length, text.toString());
         assertTrue(lines[1].endsWith("fit 2/3 (66%), 0:02 elapsed, ETA 0:01  epoch 2 objective 9"), lines[1]);
+    }
+
+    @Test
+    void an_amount_on_a_terminal_shows_a_share_and_nothing_when_it_ends_at_once() {
+        StringWriter text = new StringWriter();
+        AtomicLong now = new AtomicLong();
+        Progress progress = new Progress(new PrintWriter(text), true, now::get, () -> WALL, "import");
+        Progress.Task quick = progress.startAmount("reading trust.csv", 1000);
+        quick.advance(999, "");
+        quick.finish("10 rows");
+        assertEquals("", text.toString(), "a phase over before the first redraw shows nothing");
+
+        Progress.Task slow = progress.startAmount("writing ratings", 1000);
+        now.addAndGet(2 * SECOND);
+        slow.advance(250, "");
+        now.addAndGet(2 * SECOND);
+        slow.finish("1000 ratings written");
+        String shown = text.toString();
+        assertTrue(shown.startsWith("\rwriting ratings [######..................]  25%  0:02  ETA 0:06"), shown);
+        assertTrue(shown.endsWith("\rwriting ratings [########################] 100%  0:04    1000 ratings written\u001b[K\n"),
+                shown);
+    }
+
+    @Test
+    void notes_are_stamped_in_a_log_and_a_silent_progress_shows_nothing() {
+        StringWriter text = new StringWriter();
+        new Progress(new PrintWriter(text), false, () -> 0L, () -> WALL, "train").note("chose rank 8");
+        assertEquals("2026-01-01T00:00:00Z train: chose rank 8\n", text.toString());
+        Progress silent = Progress.silent();
+        Progress.Task task = silent.start("fit", 3);
+        task.advanceAndLog(1, "epoch 1");
+        task.finish("");
+        silent.note("nothing to see");
     }
 
     @Test
