@@ -64,6 +64,7 @@ public final class CcdSolver implements Solver {
         private final int n;
         private final int k;
         private final double lambda;
+        private final double biasPrior;
         private final double tau;
         private final double alpha;
         /** Residuals r − r̂ in CSR order and in CSC order. */
@@ -94,6 +95,7 @@ public final class CcdSolver implements Solver {
             this.n = st.n;
             this.k = st.k;
             this.lambda = s.lambda();
+            this.biasPrior = s.biasPrior();
             this.tau = s.trustWeight();
             this.alpha = s.trustAlpha();
             eUser = new double[r.nnz()];
@@ -189,7 +191,7 @@ public final class CcdSolver implements Solver {
             return d;
         }
 
-        /** b_i = Σ_u (e_ui + b_i) / (n_i + λ ñ_i): exact over b_i. */
+        /** b_i = Σ_u (e_ui + b_i) / (n_i + λ ñ_i + γ): exact over b_i. */
         private void itemBiases() {
             float[] bi = st.bi;
             int[] is = r.itemStart();
@@ -204,13 +206,13 @@ public final class CcdSolver implements Solver {
                     for (int at = is[i]; at < is[i + 1]; at++) {
                         sum += eItem[at] + bi[i];
                     }
-                    bi[i] = (float) (sum / (count + lambda * count));
+                    bi[i] = (float) (sum / (count + lambda * count + biasPrior));
                 }
             });
             correctResiduals(null, bi, true);
         }
 
-        /** b_u = Σ_i (e_ui + b_u) / (n_u + λ ñ_u): exact over b_u (no trust term touches biases). */
+        /** b_u = Σ_i (e_ui + b_u) / (n_u + λ ñ_u + γ): exact over b_u (no trust term touches biases). */
         private void userBiases() {
             float[] bu = st.bu;
             int[] us = r.userStart();
@@ -225,7 +227,7 @@ public final class CcdSolver implements Solver {
                     for (int at = us[u]; at < us[u + 1]; at++) {
                         sum += eUser[at] + bu[u];
                     }
-                    bu[u] = (float) (sum / (count + lambda * count));
+                    bu[u] = (float) (sum / (count + lambda * count + biasPrior));
                 }
             });
             correctResiduals(bu, null, false);
