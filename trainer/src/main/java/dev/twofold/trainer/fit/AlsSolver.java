@@ -65,7 +65,8 @@ public final class AlsSolver implements Solver {
             return FitLoop.run(data, s, st, workers, listener, epoch -> {
                 Arrays.fill(failed, 0);
 
-                FoldIn itemSide = new FoldIn(k, st.biases, st.mu, s.lambda(), p, bu, null, null, 0f, 0f);
+                FoldIn itemSide = new FoldIn(k, st.biases, st.mu, s.lambda(), p, bu, null, null, 0f, 0f)
+                        .withBiasPrior(s.biasPrior());
                 int[] itemStart = r.itemStart();
                 workers.forEachChunk(n, ROWS_PER_CHUNK, MIN_PARALLEL_ROWS, (w, from, to) -> {
                     for (int i = from; i < to; i++) {
@@ -98,7 +99,8 @@ public final class AlsSolver implements Solver {
                 int[] userStart = r.userStart();
                 if (nb == null) {
                     FoldIn userSide = new FoldIn(k, st.biases, st.mu, s.lambda(), q, bi, z,
-                            z != null ? NormalEquations.gram(z, m, k) : null, s.trustWeight(), s.trustAlpha());
+                            z != null ? NormalEquations.gram(z, m, k) : null, s.trustWeight(), s.trustAlpha())
+                            .withBiasPrior(s.biasPrior());
                     int[] outStart = t.outStart();
                     workers.forEachChunk(m, ROWS_PER_CHUNK, MIN_PARALLEL_ROWS, (w, from, to) -> {
                         for (int u = from; u < to; u++) {
@@ -113,7 +115,8 @@ public final class AlsSolver implements Solver {
                         }
                     });
                 } else {
-                    FoldIn userSide = new FoldIn(k, st.biases, st.mu, s.lambda(), q, bi, null, null, 0f, 0f);
+                    FoldIn userSide = new FoldIn(k, st.biases, st.mu, s.lambda(), q, bi, null, null, 0f, 0f)
+                            .withBiasPrior(s.biasPrior());
                     workers.forEachChunk(m, ROWS_PER_CHUNK, MIN_PARALLEL_ROWS,
                             (w, from, to) -> {
                                 for (int u = from; u < to; u++) {
@@ -148,8 +151,8 @@ public final class AlsSolver implements Solver {
                             }
                         }
                     });
-                    UserBlockSearch.move(workers, r, k, st.biases, st.mu, s.lambda(), q, bi, p, bu, proposal,
-                            proposalBias, nb, residual);
+                    UserBlockSearch.move(workers, r, k, st.biases, st.mu, s.lambda(), s.biasPrior(), q, bi,
+                            p, bu, proposal, proposalBias, nb, residual);
                 }
                 int failures = 0;
                 for (int f : failed) {

@@ -64,6 +64,7 @@ public final class CcdSolver implements Solver {
         private final int n;
         private final int k;
         private final double lambda;
+        private final double biasPrior;
         private final double tau;
         private final double alpha;
         /** Residuals r − r̂ in CSR order and in CSC order. */
@@ -94,6 +95,7 @@ public final class CcdSolver implements Solver {
             this.n = st.n;
             this.k = st.k;
             this.lambda = s.lambda();
+            this.biasPrior = s.biasPrior();
             this.tau = s.trustWeight();
             this.alpha = s.trustAlpha();
             eUser = new double[r.nnz()];
@@ -189,13 +191,13 @@ public final class CcdSolver implements Solver {
             return d;
         }
 
-        /** b_i = Σ_u (e_ui + b_i) / (n_i + λ ñ_i): exact over b_i. */
+        /** b_i = Σ_u (e_ui + b_i) / (n_i + λ ñ_i + γ): exact over b_i. */
         private void itemBiases() {
             refitBiases(st.bi, n, r.itemStart(), eItem);
             correctResiduals(null, st.bi, true);
         }
 
-        /** b_u = Σ_i (e_ui + b_u) / (n_u + λ ñ_u): exact over b_u (no trust term touches biases). */
+        /** b_u = Σ_i (e_ui + b_u) / (n_u + λ ñ_u + γ): exact over b_u (no trust term touches biases). */
         private void userBiases() {
             refitBiases(st.bu, m, r.userStart(), eUser);
             correctResiduals(st.bu, null, false);
@@ -214,7 +216,7 @@ public final class CcdSolver implements Solver {
                     for (int at = start[row]; at < start[row + 1]; at++) {
                         sum += residual[at] + bias[row];
                     }
-                    bias[row] = (float) (sum / (count + lambda * count));
+                    bias[row] = (float) (sum / (count + lambda * count + biasPrior));
                 }
             });
         }

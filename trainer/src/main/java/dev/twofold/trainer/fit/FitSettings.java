@@ -19,6 +19,9 @@ import dev.twofold.trainer.parallel.Workers;
  * @param patience    stop after this many epochs without a better validation RMSE and keep the best
  *                    epoch's factors; 0 runs all epochs
  * @param initScale   standard deviation of the initial factors is initScale / √k
+ * @param biasPrior   γ, a ridge γ·b² on every bias that does not grow with its count, on top of λ's:
+ *                    a bias is estimated as if it had γ more ratings with nothing to explain, so the
+ *                    leniency of a user with one or two ratings is not read off their noise
  */
 public record FitSettings(
         int rank,
@@ -31,7 +34,8 @@ public record FitSettings(
         Coupling coupling,
         boolean biases,
         int patience,
-        float initScale) {
+        float initScale,
+        float biasPrior) {
 
     public static final int DEFAULT_RANK = 8;
     public static final float DEFAULT_LAMBDA = 0.02f;
@@ -43,6 +47,7 @@ public record FitSettings(
     public static final float DEFAULT_TRUST_WEIGHT = DEFAULT_COUPLING.defaultTrustWeight();
     public static final int DEFAULT_PATIENCE = 0;
     public static final float DEFAULT_INIT_SCALE = 0.1f;
+    public static final float DEFAULT_BIAS_PRIOR = 2f;
 
     public static final int MAX_RANK = 1024;
     public static final float MAX_LAMBDA = 1e6f;
@@ -50,6 +55,7 @@ public record FitSettings(
     public static final float MAX_TRUST_ALPHA = 1e6f;
     public static final int MAX_EPOCHS = 100_000;
     public static final float MAX_INIT_SCALE = 10f;
+    public static final float MAX_BIAS_PRIOR = 1e6f;
 
     public FitSettings {
         if (rank < 0 || rank > MAX_RANK) {
@@ -61,6 +67,7 @@ public record FitSettings(
         check("lambda", lambda, MAX_LAMBDA);
         check("trust weight", trustWeight, MAX_TRUST_WEIGHT);
         check("trust alpha", trustAlpha, MAX_TRUST_ALPHA);
+        check("bias prior", biasPrior, MAX_BIAS_PRIOR);
         if (epochs < 1 || epochs > MAX_EPOCHS) {
             throw new IllegalArgumentException("epochs " + epochs + " outside 1.." + MAX_EPOCHS);
         }
@@ -87,51 +94,67 @@ public record FitSettings(
     /**
      * The defaults, chosen on a validation split of the demo community (docs/benchmarks.md, "How the
      * defaults were chosen"): rank 8, λ 0.02, neighbour coupling with β 8 (α 30 for shared coupling),
-     * 20 epochs, biases on, no early stopping.
+     * bias prior γ 2, 20 epochs, biases on, no early stopping.
      */
     public static FitSettings defaults() {
         return new FitSettings(DEFAULT_RANK, DEFAULT_LAMBDA, DEFAULT_TRUST_WEIGHT, DEFAULT_TRUST_ALPHA, DEFAULT_EPOCHS,
-                DEFAULT_SEED, DEFAULT_THREADS, DEFAULT_COUPLING, true, DEFAULT_PATIENCE, DEFAULT_INIT_SCALE);
+                DEFAULT_SEED, DEFAULT_THREADS, DEFAULT_COUPLING, true, DEFAULT_PATIENCE, DEFAULT_INIT_SCALE,
+                DEFAULT_BIAS_PRIOR);
     }
 
     public FitSettings withRank(int value) {
-        return new FitSettings(value, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience, initScale);
+        return new FitSettings(value, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withLambda(float value) {
-        return new FitSettings(rank, value, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience, initScale);
+        return new FitSettings(rank, value, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withTrust(float weight, float alpha) {
-        return new FitSettings(rank, lambda, weight, alpha, epochs, seed, threads, coupling, biases, patience, initScale);
+        return new FitSettings(rank, lambda, weight, alpha, epochs, seed, threads, coupling, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withEpochs(int value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, value, seed, threads, coupling, biases, patience, initScale);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, value, seed, threads, coupling, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withSeed(long value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, value, threads, coupling, biases, patience, initScale);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, value, threads, coupling, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withThreads(int value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, value, coupling, biases, patience, initScale);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, value, coupling, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withCoupling(Coupling value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, value, biases, patience, initScale);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, value, biases, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withBiases(boolean value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, value, patience, initScale);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, value, patience,
+                initScale, biasPrior);
     }
 
     public FitSettings withPatience(int value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, value, initScale);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, value,
+                initScale, biasPrior);
     }
 
     public FitSettings withInitScale(float value) {
-        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience, value);
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience,
+                value, biasPrior);
+    }
+
+    public FitSettings withBiasPrior(float value) {
+        return new FitSettings(rank, lambda, trustWeight, trustAlpha, epochs, seed, threads, coupling, biases, patience,
+                initScale, value);
     }
 
     /** True when the trust matrix takes part through shared factors. */

@@ -6,13 +6,14 @@ package dev.twofold.trainer.fit;
  * max(n_u, 1), it solves the (k+1)×(k+1) system
  *
  * <pre>
- *   A = Σ_i q̃_i q̃_iᵀ + τ (ZᵀZ + Σ_{v∈N(u)} α w_uv z_v z_vᵀ) + λ ñ_u I
+ *   A = Σ_i q̃_i q̃_iᵀ + τ (ZᵀZ + Σ_{v∈N(u)} α w_uv z_v z_vᵀ) + λ ñ_u I + γ e_b e_bᵀ
  *   c = Σ_i (r_ui − μ − b_i) q̃_i + τ Σ_{v∈N(u)} (1 + α w_uv) z_v
  *   A p̃ = c
  * </pre>
  *
  * by Cholesky factorisation, where the sums over i run over the user's ratings and those over v over
- * the users u trusts (trust terms touch only the k factor coordinates). This is the exact minimiser of
+ * the users u trusts (trust terms touch only the k factor coordinates), and γ, the bias prior, adds
+ * to the bias coordinate e_b only. This is the exact minimiser of
  * the training objective over (p_u, b_u) with everything else fixed (see {@link Objective}). ZᵀZ is
  * precomputed once ({@link #gram}), so the full trust row of u (target 0, weight 1 off the edges) costs
  * k² and T is never materialised. Without biases, b_u and the 1s are dropped (k×k system); without a
@@ -44,6 +45,7 @@ public final class FoldIn {
     private final float trustAlpha;
     private final float[] neighbourFactors;
     private final float neighbourWeight;
+    private final float biasPrior;
 
     /**
      * @param rank         k
@@ -60,21 +62,21 @@ public final class FoldIn {
     public FoldIn(int rank, boolean biases, float globalMean, float lambda, float[] fixedFactors, float[] fixedBias,
             float[] trustFactors, double[] trustGram, float trustWeight, float trustAlpha) {
         this(rank, biases, globalMean, lambda, fixedFactors, fixedBias, trustFactors, trustGram, trustWeight, trustAlpha,
-                null, 0f);
+                null, 0f, 0f);
     }
 
     private FoldIn(int rank, boolean biases, float globalMean, float lambda, float[] fixedFactors, float[] fixedBias,
             float[] trustFactors, double[] trustGram, float trustWeight, float trustAlpha, float[] neighbourFactors,
-            float neighbourWeight) {
+            float neighbourWeight, float biasPrior) {
         if (rank < 0 || (rank == 0 && !biases)) {
             throw new IllegalArgumentException("rank " + rank + " with biases " + biases + " leaves nothing to solve");
         }
         if (trustFactors != null && (trustGram == null || trustGram.length != rank * rank)) {
             throw new IllegalArgumentException("trust factors need their Gram matrix of " + rank + " × " + rank);
         }
-        if (!(lambda >= 0) || !(trustWeight >= 0) || !(trustAlpha >= 0)) {
-            throw new IllegalArgumentException("lambda " + lambda + ", trust weight " + trustWeight + " and trust alpha "
-                    + trustAlpha + " must be ≥ 0");
+        if (!(lambda >= 0) || !(trustWeight >= 0) || !(trustAlpha >= 0) || !(biasPrior >= 0)) {
+            throw new IllegalArgumentException("lambda " + lambda + ", trust weight " + trustWeight + ", trust alpha "
+                    + trustAlpha + " and bias prior " + biasPrior + " must be ≥ 0");
         }
         this.rank = rank;
         this.biases = biases;
@@ -88,6 +90,17 @@ public final class FoldIn {
         this.trustAlpha = trustAlpha;
         this.neighbourFactors = neighbourFactors;
         this.neighbourWeight = neighbourWeight;
+        this.biasPrior = biasPrior;
+    }
+
+    /**
+     * This fold-in with bias prior γ: the bias pays γ·b² on top of λ·ñ·b² (see {@link FitSettings#biasPrior}).
+     * The constructors and {@link #withNeighbours} have none (γ = 0); {@link #forModel} takes the
+     * model's, and the solvers their settings'.
+     */
+    public FoldIn withBiasPrior(float value) {
+        return new FoldIn(rank, biases, globalMean, lambda, fixedFactors, fixedBias, trustFactors, trustGram, trustWeight,
+                trustAlpha, neighbourFactors, neighbourWeight, value);
     }
 
     /**
@@ -103,7 +116,8 @@ public final class FoldIn {
         if (!(beta >= 0)) {
             throw new IllegalArgumentException("neighbour weight " + beta + " must be ≥ 0");
         }
-        return new FoldIn(rank, biases, globalMean, lambda, itemFactors, itemBias, null, null, 0f, 0f, userFactors, beta);
+        return new FoldIn(rank, biases, globalMean, lambda, itemFactors, itemBias, null, null, 0f, 0f, userFactors, beta,
+                0f);
     }
 
     /**
@@ -114,12 +128,12 @@ public final class FoldIn {
         FitSettings s = model.settings();
         if (s.coupling() == Coupling.NEIGHBOUR) {
             return withNeighbours(model.rank(), s.biases(), model.globalMean(), s.lambda(), model.itemFactors(),
-                    model.itemBias(), model.userFactors(), s.trustWeight());
+                    model.itemBias(), model.userFactors(), s.trustWeight()).withBiasPrior(s.biasPrior());
         }
         float[] z = s.sharesFactors() ? model.trustFactors() : null;
         return new FoldIn(model.rank(), s.biases(), model.globalMean(), s.lambda(), model.itemFactors(),
                 model.itemBias(), z, z == null ? null : gram(z, model.numUsers(), model.rank()), s.trustWeight(),
-                s.trustAlpha());
+                s.trustAlpha()).withBiasPrior(s.biasPrior());
     }
 
     /**
@@ -175,7 +189,7 @@ public final class FoldIn {
                     trustees, trustWeights, trustFrom, trustTo);
         }
         addNeighbours(a, c, dim, trustees, trustWeights, trustFrom, trustTo, scratch.row);
-        NormalEquations.addRidge(a, dim, (double) lambda * Math.max(to - from, 1));
+        addRidge(a, dim, to - from);
         scratch.withBias = biases;
         scratch.solved = Cholesky.factor(a, dim) && Cholesky.solve(a, dim, c);
         return scratch.solved;
@@ -195,9 +209,17 @@ public final class FoldIn {
                     trustGram, trustees, trustWeights, trustFrom, trustTo);
         }
         addNeighbours(scratch.a, scratch.c, dim, trustees, trustWeights, trustFrom, trustTo, scratch.row);
-        NormalEquations.addRidge(scratch.a, dim, (double) lambda * Math.max(to - from, 1));
+        addRidge(scratch.a, dim, to - from);
         scratch.withBias = biases;
         scratch.solved = false;
+    }
+
+    /** λ·ñ on every coordinate, ñ = max(count, 1), and γ more on the bias. */
+    private void addRidge(double[] a, int dim, int count) {
+        NormalEquations.addRidge(a, dim, (double) lambda * Math.max(count, 1));
+        if (biases) {
+            a[rank * dim + rank] += biasPrior;
+        }
     }
 
     private void addRatings(double[] a, double[] c, int[] items, float[] ratings, int from, int to, Scratch scratch) {

@@ -64,7 +64,8 @@ public final class GreedySolver implements Solver {
             int minParallel = AlsSolver.MIN_PARALLEL_ROWS;
             return FitLoop.run(data, s, st, workers, listener, epoch -> {
                 Arrays.fill(failed, 0);
-                FoldIn itemSide = new FoldIn(k, st.biases, st.mu, s.lambda(), p, bu, null, null, 0f, 0f);
+                FoldIn itemSide = new FoldIn(k, st.biases, st.mu, s.lambda(), p, bu, null, null, 0f, 0f)
+                        .withBiasPrior(s.biasPrior());
                 int[] itemStart = r.itemStart();
                 workers.forEachChunk(n, chunk, minParallel, (w, from, to) -> {
                     for (int i = from; i < to; i++) {
@@ -99,7 +100,8 @@ public final class GreedySolver implements Solver {
                 int[] outStart = t.outStart();
                 if (nb == null) {
                     FoldIn userSide = new FoldIn(k, st.biases, st.mu, s.lambda(), q, bi, z,
-                            z != null ? NormalEquations.gram(z, m, k) : null, s.trustWeight(), s.trustAlpha());
+                            z != null ? NormalEquations.gram(z, m, k) : null, s.trustWeight(), s.trustAlpha())
+                            .withBiasPrior(s.biasPrior());
                     workers.forEachChunk(m, chunk, minParallel, (w, from, to) -> {
                         for (int u = from; u < to; u++) {
                             if (!st.solvedUsers.get(u)) {
@@ -114,7 +116,8 @@ public final class GreedySolver implements Solver {
                         }
                     });
                 } else {
-                    FoldIn userSide = new FoldIn(k, st.biases, st.mu, s.lambda(), q, bi, null, null, 0f, 0f);
+                    FoldIn userSide = new FoldIn(k, st.biases, st.mu, s.lambda(), q, bi, null, null, 0f, 0f)
+                            .withBiasPrior(s.biasPrior());
                     workers.forEachChunk(m, chunk, minParallel, (w, from, to) -> {
                         for (int u = from; u < to; u++) {
                             nb.residualRow(p, k, residual, u);
@@ -152,8 +155,8 @@ public final class GreedySolver implements Solver {
                             proposalBias[u] = st.biases ? xw[k] : 0.0;
                         }
                     });
-                    UserBlockSearch.move(workers, r, k, st.biases, st.mu, s.lambda(), q, bi, p, bu, proposal,
-                            proposalBias, nb, residual);
+                    UserBlockSearch.move(workers, r, k, st.biases, st.mu, s.lambda(), s.biasPrior(), q, bi,
+                            p, bu, proposal, proposalBias, nb, residual);
                 }
                 int failures = 0;
                 for (int f : failed) {

@@ -12,6 +12,7 @@ import dev.twofold.trainer.parallel.Workers;
  *     + τ Σ_u Σ_v c_uv (t_uv − p_u·z_v)²                                (shared coupling only)
  *     + β Σ_{u∈U_T} ‖p_u − Σ_{v∈N(u)} w̄_uv p_v‖²                           (neighbour coupling only)
  *     + λ (Σ_u ñ_u (‖p_u‖² + b_u²) + Σ_i ñ_i (‖q_i‖² + b_i²) + Σ_v ñ_v ‖z_v‖²)
+ *     + γ (Σ_u b_u² + Σ_i b_i²)
  * </pre>
  *
  * where t_uv = 1 with confidence c_uv = 1 + α·w_uv on an observed edge and t_uv = 0 with c_uv = 1 on
@@ -19,7 +20,10 @@ import dev.twofold.trainer.parallel.Workers;
  * who trust v, and the Z term is present only with shared coupling (SoRec, Ma et al., CIKM 2008;
  * weighted-λ from Zhou et al., AAIM 2008). The neighbour term runs over the users U_T who trust
  * someone, with w̄ the trust weights normalised per truster (SocialMF, Jamali and Ester, RecSys 2010;
- * see {@link NeighbourTerm}); β is the settings' trust weight. The sum over all m² trust cells is evaluated without
+ * see {@link NeighbourTerm}); β is the settings' trust weight. γ is the bias prior
+ * ({@link FitSettings#biasPrior}): the weighted-λ ridge alone shrinks a bias by 1/(1 + λ) whatever its
+ * count, so a user with one rating would take that rating's whole noise as their leniency; γ shrinks
+ * biases with few ratings towards 0 (b = Σ residual / (n(1 + λ) + γ)) and barely touches the others. The sum over all m² trust cells is evaluated without
  * materialising T:
  *
  * <pre>
@@ -66,29 +70,36 @@ public final class Objective {
         int blocks = (m + USERS_PER_BLOCK - 1) / USERS_PER_BLOCK;
         double[] fitParts = new double[blocks];
         double[] regParts = new double[blocks];
+        double[] biasParts = new double[blocks];
         workers.forEachChunk(m, USERS_PER_BLOCK, 2 * USERS_PER_BLOCK, (w, from, to) -> {
             for (int b = from / USERS_PER_BLOCK; b * USERS_PER_BLOCK < to; b++) {
                 double fit = 0;
                 double reg = 0;
+                double bias = 0;
                 for (int u = b * USERS_PER_BLOCK; u < Math.min(to, (b + 1) * USERS_PER_BLOCK); u++) {
                     for (int at = start[u]; at < start[u + 1]; at++) {
                         double e = values[at] - model.score(u, items[at]);
                         fit += e * e;
                     }
                     reg += Math.max(r.userCount(u), 1) * (squaredNorm(p, u * k, k) + (double) bu[u] * bu[u]);
+                    bias += (double) bu[u] * bu[u];
                 }
                 fitParts[b] = fit;
                 regParts[b] = reg;
+                biasParts[b] = bias;
             }
         });
         double fit = 0;
         double reg = 0;
+        double biasReg = 0;
         for (int b = 0; b < blocks; b++) {
             fit += fitParts[b];
             reg += regParts[b];
+            biasReg += biasParts[b];
         }
         for (int i = 0; i < n; i++) {
             reg += Math.max(r.itemCount(i), 1) * (squaredNorm(q, i * k, k) + (double) bi[i] * bi[i]);
+            biasReg += (double) bi[i] * bi[i];
         }
 
         double trust = 0;
@@ -124,7 +135,7 @@ public final class Objective {
             term.residual(p, k, d);
             trust = term.value(d);
         }
-        return fit + trust + s.lambda() * reg;
+        return fit + trust + s.lambda() * reg + s.biasPrior() * biasReg;
     }
 
     /**
@@ -153,7 +164,8 @@ public final class Objective {
         double[] gp = new double[m * k];
         double[] gbu = new double[m];
         FoldIn users = new FoldIn(k, biases, model.globalMean(), s.lambda(), model.itemFactors(), model.itemBias(),
-                shared ? z : null, shared ? NormalEquations.gram(z, m, k) : null, s.trustWeight(), s.trustAlpha());
+                shared ? z : null, shared ? NormalEquations.gram(z, m, k) : null, s.trustWeight(), s.trustAlpha())
+                .withBiasPrior(s.biasPrior());
         for (int u = 0; u < m; u++) {
             users.assemble(r.userItems(), r.userValues(), r.userStart()[u], r.userStart()[u + 1], t.trustees(),
                     t.outWeights(), t.outStart()[u], t.outStart()[u + 1], scratch);
@@ -169,7 +181,8 @@ public final class Objective {
 
         double[] gq = new double[n * k];
         double[] gbi = new double[n];
-        FoldIn items = new FoldIn(k, biases, model.globalMean(), s.lambda(), p, model.userBias(), null, null, 0f, 0f);
+        FoldIn items = new FoldIn(k, biases, model.globalMean(), s.lambda(), p, model.userBias(), null, null, 0f, 0f)
+                .withBiasPrior(s.biasPrior());
         for (int i = 0; i < n; i++) {
             items.assemble(r.itemUsers(), r.itemValues(), r.itemStart()[i], r.itemStart()[i + 1], null, null, 0, 0, scratch);
             rowGradient(scratch, dim, model.itemFactors(), model.itemBias(), i, k, biases, x, g, gq, gbi);

@@ -41,8 +41,9 @@ final class UserBlockSearch {
      * @param proposalBias proposed b_u' (ignored without biases)
      * @param d           neighbour residual of the current P (see {@link NeighbourTerm#residual})
      */
-    static double move(Workers workers, RatingMatrix r, int k, boolean biases, float mu, float lambda, float[] q,
-            float[] bi, float[] p, float[] bu, double[] proposal, double[] proposalBias, NeighbourTerm term, double[] d) {
+    static double move(Workers workers, RatingMatrix r, int k, boolean biases, float mu, float lambda, float biasPrior,
+            float[] q, float[] bi, float[] p, float[] bu, double[] proposal, double[] proposalBias, NeighbourTerm term,
+            double[] d) {
         int m = r.numUsers();
         int blocks = (m + ROWS_PER_BLOCK - 1) / ROWS_PER_BLOCK;
         double[] lin = new double[blocks];
@@ -91,6 +92,10 @@ final class UserBlockSearch {
                     }
                     g += 2 * ridge * xd;
                     h += ridge * dd;
+                    if (biases) {
+                        g += 2.0 * biasPrior * bu[u] * dirBias[u];
+                        h += (double) biasPrior * dirBias[u] * dirBias[u];
+                    }
                 }
                 term.directional(d, dir, k, lo, hi, scratch, pieces);
                 g += 2.0 * term.beta() * pieces[0];

@@ -199,6 +199,7 @@ final class MetricsJson {
         root.put("threads", f.threads());
         root.put("patience", f.patience());
         root.put("initScale", f.initScale());
+        root.put("biasPrior", f.biasPrior());
         root.put("holdout", settings.holdout());
         root.put("splitSeed", settings.splitSeed());
         root.put("relevance", settings.relevance());

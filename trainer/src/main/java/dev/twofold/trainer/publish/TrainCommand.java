@@ -72,6 +72,9 @@ public final class TrainCommand implements Callable<Integer> {
     @Option(names = "--trust-alpha", paramLabel = "A", description = "shared coupling: confidence of an observed trust edge, 1 + A * weight (default: ${DEFAULT-VALUE})")
     float trustAlpha = FitSettings.DEFAULT_TRUST_ALPHA;
 
+    @Option(names = "--bias-prior", paramLabel = "G", description = "every user and item bias is estimated as if it had G more ratings with nothing to explain, so one or two ratings do not set a user's leniency (default: ${DEFAULT-VALUE})")
+    float biasPrior = FitSettings.DEFAULT_BIAS_PRIOR;
+
     @Option(names = "--solver", paramLabel = "S", description = "als (alternating least squares), ccd (cyclic coordinate descent) or greedy (greedy coordinate descent) (default: ${DEFAULT-VALUE})")
     String solver = TrainSettings.DEFAULT_SOLVER.label();
 
@@ -168,7 +171,7 @@ public final class TrainCommand implements Callable<Integer> {
             FitSettings fit = FitSettings.defaults().withRank(rank == null ? FitSettings.DEFAULT_RANK : rank)
                     .withLambda(lambda == null ? FitSettings.DEFAULT_LAMBDA : lambda)
                     .withTrust(trustWeight == null ? c.defaultTrustWeight() : trustWeight, trustAlpha)
-                    .withEpochs(epochs).withSeed(seed).withThreads(threads).withCoupling(c);
+                    .withEpochs(epochs).withSeed(seed).withThreads(threads).withCoupling(c).withBiasPrior(biasPrior);
             return TrainSettings.defaults().withFit(fit).withHoldout(holdout).withRanking(relevance, k)
                     .withSolver(SolverKind.parse(solver)).withSplit(SplitMethod.parse(split)).withPatience(patience)
                     .withSweep(rank == null ? Sweep.DEFAULT_RANKS : null, lambda == null ? Sweep.DEFAULT_LAMBDAS : null);

@@ -102,10 +102,10 @@ public record TrainReport(
             s.append("tuning: ").append(tuning).append(System.lineSeparator());
         }
         FitSettings f = settings.fit();
-        s.append(String.format(Locale.ROOT, "parameters: rank %d, lambda %s, coupling %s (trust weight %s, alpha %s), %d epochs,"
-                + " seed %d, holdout %s; relevant ≥ %s, k %d%n", f.rank(), plain(f.lambda()), f.coupling().label(),
-                plain(f.trustWeight()), plain(f.trustAlpha()), f.epochs(), f.seed(), plain(settings.holdout()),
-                plain(settings.relevance()), settings.k()));
+        s.append(String.format(Locale.ROOT, "parameters: rank %d, lambda %s, coupling %s (trust weight %s, alpha %s), bias"
+                + " prior %s, %d epochs, seed %d, holdout %s; relevant ≥ %s, k %d%n", f.rank(), plain(f.lambda()),
+                f.coupling().label(), plain(f.trustWeight()), plain(f.trustAlpha()), plain(f.biasPrior()), f.epochs(),
+                f.seed(), plain(settings.holdout()), plain(settings.relevance()), settings.k()));
         QualityGate g = publish.gate();
         s.append(String.format(Locale.ROOT, "promotion: --promote %s; gate: RMSE at most +%s, precision@%d at most -%s against"
                 + " the live model; keep %d versions%n", publish.policy().label(), percent(g.rmseTolerance()), settings.k(),

@@ -23,8 +23,9 @@ import java.util.Locale;
  * warm users' (≥ 15 training ratings) held-out RMSE and its ratio to the noise floor, the cold users'
  * (≤ 3 training ratings) RMSE and the cut against the same solver without trust, and precision@10.
  *
- * <p>Arguments (all optional): {@code rank=8 lambda=0.04 shared=0.1 neighbour=2 epochs=20 seed=7
- * cooks=2000 recipes=500 solvers=als,ccd,greedy couplings=shared,neighbour,none}.
+ * <p>Arguments (all optional): {@code rank=8 lambda=0.02 shared=0.3 neighbour=8 biasPrior=2 epochs=20 seed=7
+ * cooks=2000 recipes=500 solvers=als,ccd,greedy couplings=shared,neighbour,none} (defaults: those of
+ * {@link FitSettings#defaults()}).
  * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
  *
  * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.AccuracyBench [name=value ...]</pre>
@@ -71,7 +72,8 @@ public final class AccuracyBench {
                 FitSettings s = FitSettings.defaults().withRank(a.integer("rank", FitSettings.DEFAULT_RANK))
                         .withLambda(a.real("lambda", FitSettings.DEFAULT_LAMBDA)).withCoupling(coupling)
                         .withTrust(weight, a.real("alpha", FitSettings.DEFAULT_TRUST_ALPHA))
-                        .withEpochs(a.integer("epochs", FitSettings.DEFAULT_EPOCHS)).withThreads(2);
+                        .withEpochs(a.integer("epochs", FitSettings.DEFAULT_EPOCHS))
+                        .withBiasPrior(a.real("biasPrior", FitSettings.DEFAULT_BIAS_PRIOR)).withThreads(2);
                 long t0 = System.nanoTime();
                 FittedModel model = solver.create().fit(data, s);
                 double seconds = (System.nanoTime() - t0) / 1e9;

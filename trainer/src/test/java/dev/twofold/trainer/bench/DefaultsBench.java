@@ -28,7 +28,9 @@ import java.util.Locale;
  * validation rows, and for each coupling and trust weight the rank × λ grid is swept with early
  * stopping. Prints the best validation RMSE per coupling and weight. The held-out rows are not used.
  *
- * <p>Arguments: {@code ranks=4,8,16 lambdas=0.02,0.04,0.08 shared=0.03,0.1,0.3 neighbour=0.5,2,8 solver=als}.
+ * <p>Arguments: {@code ranks=4,8,16 lambdas=0.02,0.04,0.08 shared=0.03,0.1,0.3 neighbour=0.5,2,8 solver=als
+ * couplings=shared,neighbour,none biasPriors=2 epochs=40 patience=3} (each bias prior γ is tried with every
+ * coupling and weight; epochs is the most a fit may run).
  * Run with (the heap settings matter: the trainer benches hold a million ratings and their models)
  *
  * <pre>JAVA_OPTS="-Xms2g -Xmx8g" deploy/bench trainer dev.twofold.trainer.bench.DefaultsBench [name=value ...]</pre>
@@ -69,23 +71,28 @@ public final class DefaultsBench {
         SolverKind solver = SolverKind.parse(a.text("solver", "als"));
         System.out.printf(Locale.ROOT, "demo community: %,d ratings; fitting %,d, validation %,d%n", c.numRatings(),
                 fit.nnz(), validation.nnz());
-        System.out.println("| coupling | trust weight | best rank | best lambda | best epoch | validation RMSE | cold (≤ 5) validation RMSE | precision@10 |");
-        System.out.println("|---|---|---|---|---|---|---|---|");
-        for (Coupling coupling : Coupling.values()) {
+        System.out.println("| coupling | trust weight | bias prior | best rank | best lambda | best epoch | validation RMSE"
+                + " | cold (≤ 5) validation RMSE | precision@10 |");
+        System.out.println("|---|---|---|---|---|---|---|---|---|");
+        float[] priors = parseFloats(a.text("biasPriors", Float.toString(FitSettings.DEFAULT_BIAS_PRIOR)));
+        for (String name : a.text("couplings", "shared,neighbour,none").split(",")) {
+            Coupling coupling = Coupling.parse(name);
             String weights = coupling == Coupling.SHARED ? a.text("shared", "0.03,0.1,0.3")
                     : coupling == Coupling.NEIGHBOUR ? a.text("neighbour", "0.5,2,8") : "0";
             for (float w : parseFloats(weights)) {
-                FitSettings base = FitSettings.defaults().withCoupling(coupling).withTrust(w, FitSettings.DEFAULT_TRUST_ALPHA)
-                        .withEpochs(40).withPatience(a.integer("patience", 3)).withThreads(2);
-                SweepResult result = Sweep.run(data, validation, solver.create(), base, ranks, lambdas,
-                        EvaluationSettings.defaults(1f, 5f).withThreads(2), true, Progress.silent());
-                SweepPoint best = result.best();
-                FittedModel model = solver.create().fit(data, base.withRank(best.rank()).withLambda(best.lambda())
-                        .withEpochs(best.bestEpoch()).withPatience(0));
-                Evaluator evaluator = new Evaluator(fit, validation, EvaluationSettings.defaults(1f, 5f));
-                double cold = evaluator.errors(Scorer.of(model)).cold().rmse();
-                System.out.printf(Locale.ROOT, "| %s | %s | %d | %s | %d | %.4f | %.4f | %.4f |%n", coupling.label(), w,
-                        best.rank(), best.lambda(), best.bestEpoch(), best.validationRmse(), cold, best.precision());
+                for (float prior : priors) {
+                    FitSettings base = FitSettings.defaults().withCoupling(coupling).withTrust(w, FitSettings.DEFAULT_TRUST_ALPHA)
+                            .withBiasPrior(prior).withEpochs(a.integer("epochs", 40)).withPatience(a.integer("patience", 3)).withThreads(2);
+                    SweepResult result = Sweep.run(data, validation, solver.create(), base, ranks, lambdas,
+                            EvaluationSettings.defaults(1f, 5f).withThreads(2), true, Progress.silent());
+                    SweepPoint best = result.best();
+                    FittedModel model = solver.create().fit(data, base.withRank(best.rank()).withLambda(best.lambda())
+                            .withEpochs(best.bestEpoch()).withPatience(0));
+                    Evaluator evaluator = new Evaluator(fit, validation, EvaluationSettings.defaults(1f, 5f));
+                    double cold = evaluator.errors(Scorer.of(model)).cold().rmse();
+                    System.out.printf(Locale.ROOT, "| %s | %s | %s | %d | %s | %d | %.4f | %.4f | %.4f |%n", coupling.label(), w,
+                            prior, best.rank(), best.lambda(), best.bestEpoch(), best.validationRmse(), cold, best.precision());
+                }
             }
         }
     }

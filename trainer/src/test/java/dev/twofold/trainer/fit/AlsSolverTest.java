@@ -87,8 +87,9 @@ class AlsSolverTest {
         }
         TrainingData data = new TrainingData(r, base.trust(), new ValidationSet(vu, vi, vv, 1f, 5f));
         List<EpochReport> reports = new ArrayList<>();
-        FittedModel model = new AlsSolver().fit(data, SHARED.withLambda(0.01f).withEpochs(60).withPatience(2),
-                reports::add);
+        // at SHARED's λ 0.1 the validation RMSE turns well before 60 epochs (measured: at epoch 24 with the
+        // default bias prior, 46 without); at λ 0.01 with the bias prior it still creeps down at epoch 60
+        FittedModel model = new AlsSolver().fit(data, SHARED.withEpochs(60).withPatience(2), reports::add);
         assertTrue(reports.size() < 60, "stopped early after " + reports.size() + " epochs");
         double best = reports.stream().mapToDouble(EpochReport::validationRmse).min().orElseThrow();
         assertEquals(best, data.validation().rmse(model), 1e-12);

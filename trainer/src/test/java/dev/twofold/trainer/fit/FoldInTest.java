@@ -14,7 +14,7 @@ import org.junit.jupiter.api.Test;
 /**
  * Fold-in against a direct least-squares solve with EJML's QR: the user's objective written as one
  * tall system whose rows are the ratings, every cell of the user's trust row (scaled by √(τ c_uv))
- * and the ridge rows √(λ ñ) I.
+ * and the ridge rows √(λ ñ) I, with √(λ ñ + γ) for the bias (γ the bias prior).
  */
 class FoldInTest {
 
@@ -46,6 +46,7 @@ class FoldInTest {
         float lambda = 0.2f;
         float tau = 0.6f;
         float alpha = 7f;
+        float gamma = 1.5f;
         float[] q = RandomProblems.gaussian(items * k, 0.7, random);
         float[] bi = RandomProblems.gaussian(items, 0.4, random);
         float[] z = RandomProblems.gaussian(users * k, 0.7, random);
@@ -55,7 +56,7 @@ class FoldInTest {
         float[] weights = {1f, 0.5f, 0.25f};
 
         FoldIn foldIn = new FoldIn(k, biases, mu, lambda, q, bi, withTrust ? z : null,
-                withTrust ? FoldIn.gram(z, users, k) : null, tau, alpha);
+                withTrust ? FoldIn.gram(z, users, k) : null, tau, alpha).withBiasPrior(gamma);
         FoldIn.Scratch scratch = foldIn.newScratch();
         assertTrue(foldIn.solve(rated, ratings, 0, rated.length, trustees, weights, 0, trustees.length, scratch));
 
@@ -92,7 +93,7 @@ class FoldInTest {
         }
         double ridge = Math.sqrt((double) lambda * rated.length);
         for (int x = 0; x < dim; x++, row++) {
-            a.set(row, x, ridge);
+            a.set(row, x, x == k ? Math.sqrt((double) lambda * rated.length + gamma) : ridge);
         }
         LinearSolverDense<DMatrixRMaj> ls = LinearSolverFactory_DDRM.leastSquares(rows, dim);
         assertTrue(ls.setA(a));

@@ -9,7 +9,8 @@ import org.junit.jupiter.api.Test;
 
 /**
  * The objective with the Gram trick against a brute-force evaluation over a dense trust matrix, and
- * its gradient (built from the solver's normal equations) against finite differences.
+ * its gradient (built from the solver's normal equations) against finite differences. The settings
+ * carry the default bias prior γ, so its term is checked too.
  */
 class ObjectiveTest {
 
@@ -201,6 +202,14 @@ class ObjectiveTest {
             }
             reg += Math.max(r.itemCount(i), 1) * norm;
         }
-        return total + s.lambda() * reg;
+        // γ (Σ_u b_u² + Σ_i b_i²): the bias prior, whatever the counts
+        double biases = 0;
+        for (float b : model.userBias()) {
+            biases += (double) b * b;
+        }
+        for (float b : model.itemBias()) {
+            biases += (double) b * b;
+        }
+        return total + s.lambda() * reg + s.biasPrior() * biases;
     }
 }

@@ -14,14 +14,20 @@ import dev.twofold.trainer.fit.FitSettings;
 import dev.twofold.trainer.fit.FittedModel;
 import dev.twofold.trainer.fit.TrainingData;
 import dev.twofold.trainer.split.PerUserHoldout;
+import dev.twofold.trainer.publish.TrainSettings;
 import dev.twofold.trainer.split.Split;
 import java.util.Arrays;
+import java.util.Locale;
+import java.util.function.IntPredicate;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
+import org.junit.jupiter.params.ParameterizedTest;
+import org.junit.jupiter.params.provider.ValueSource;
 
 /**
  * The default model recovers a planted cooking community: 800 cooks × 250 recipes (about 26,000
- * ratings), 20% of each cook's ratings held out, default fit settings.
+ * ratings), 20% of each cook's ratings held out, default fit settings; and on larger communities
+ * (5,000 cooks × 1,000 recipes, four seeds) trust cuts the error of cooks with few ratings by a fifth.
  */
 class PlantedRecoveryTest {
 
@@ -33,12 +39,20 @@ class PlantedRecoveryTest {
      */
     private static final double WARM_RATIO_TO_NOISE_FLOOR = 1.20;
     /**
-     * Cooks with ≤ 3 training ratings: the default (neighbour) coupling must cut their RMSE against
-     * the same model without trust by this much. The product's target is 20%, measured on larger
-     * communities in docs/benchmarks.md; this community has only a few dozen such rows, so the test
-     * guards a clear 10%.
+     * Cooks with ≤ 3 training ratings: the default (neighbour) coupling must cut their held-out RMSE
+     * against the same model without trust by at least this much — the product's target (PRODUCT.md,
+     * "What done looks like"), checked on every seed below.
      */
-    private static final double MIN_COLD_CUT = 0.10;
+    private static final double MIN_COLD_CUT = 0.20;
+    /**
+     * Size of the communities for the cold check: about 5% of cooks are newcomers, so this gives a few
+     * hundred held-out ratings of cooks with ≤ 3 training ratings per seed (the 800-cook community
+     * has only a few dozen, too few to tell 20% from 15%).
+     */
+    private static final int COLD_CHECK_COOKS = 5_000;
+    private static final int COLD_CHECK_RECIPES = 1_000;
+    /** Fits in the cold check use two threads; the factors do not depend on the count. */
+    private static final int COLD_CHECK_THREADS = 2;
     private static final int WARM_MIN_RATINGS = 15;
     private static final int COLD_MAX_RATINGS = 3;
 
@@ -47,7 +61,6 @@ class PlantedRecoveryTest {
     private static Evaluator evaluator;
     private static int[] testRows;
     private static FittedModel coupled;
-    private static FittedModel none;
 
     @BeforeAll
     static void fit() {
@@ -62,7 +75,6 @@ class PlantedRecoveryTest {
         TrainingData data = new TrainingData(train, trust, null);
         evaluator = new Evaluator(train, test, EvaluationSettings.defaults(1f, 5f));
         coupled = new AlsSolver().fit(data, FitSettings.defaults());
-        none = new AlsSolver().fit(data, FitSettings.defaults().withCoupling(Coupling.NONE));
     }
 
     @Test
@@ -89,10 +101,28 @@ class PlantedRecoveryTest {
         assertTrue(model <= WARM_RATIO_TO_NOISE_FLOOR * floor, "warm RMSE " + model + " vs noise floor " + floor);
     }
 
-    @Test
-    void trust_coupling_lowers_the_error_for_cooks_with_few_ratings() {
-        double withTrust = evaluator.errors(Scorer.of(coupled), u -> train.userCount(u) <= COLD_MAX_RATINGS).rmse();
-        double alone = evaluator.errors(Scorer.of(none), u -> train.userCount(u) <= COLD_MAX_RATINGS).rmse();
-        assertTrue(withTrust <= (1 - MIN_COLD_CUT) * alone, "cold RMSE with trust " + withTrust + " vs without " + alone);
+    /** Seeds fixed in advance (those of docs/benchmarks.md); every one must meet the target. */
+    @ParameterizedTest(name = "seed {0}")
+    @ValueSource(longs = {7, 8, 9, 10})
+    void trust_coupling_cuts_the_error_of_cooks_with_few_ratings_by_a_fifth(long seed) {
+        PlantedCommunity c = CookingCommunity.generate(CommunitySpec.defaults()
+                .withSize(COLD_CHECK_COOKS, COLD_CHECK_RECIPES).withSeed(seed));
+        int m = c.numCooks();
+        int n = c.numRecipes();
+        Split split = new PerUserHoldout(0.2, TrainSettings.DEFAULT_SPLIT_SEED).split(m, c.ratingUser(), c.ratingItem(), null);
+        RatingMatrix coldTrain = RatingMatrix.of(m, n, c.ratingUser(), c.ratingItem(), c.rating(), split.train());
+        RatingMatrix coldTest = RatingMatrix.of(m, n, c.ratingUser(), c.ratingItem(), c.rating(), split.test());
+        TrainingData data = new TrainingData(coldTrain, TrustGraph.of(m, c.truster(), c.trustee(), c.trustWeight()), null);
+        Evaluator judge = new Evaluator(coldTrain, coldTest, EvaluationSettings.defaults(1f, 5f));
+        FitSettings defaults = FitSettings.defaults().withThreads(COLD_CHECK_THREADS);
+        FittedModel withTrust = new AlsSolver().fit(data, defaults);
+        FittedModel alone = new AlsSolver().fit(data, defaults.withCoupling(Coupling.NONE));
+        IntPredicate cold = u -> coldTrain.userCount(u) <= COLD_MAX_RATINGS;
+        Figures trusted = judge.errors(Scorer.of(withTrust), cold);
+        double without = judge.errors(Scorer.of(alone), cold).rmse();
+        assertTrue(trusted.rows() >= 200, "only " + trusted.rows() + " held-out ratings of cold cooks");
+        double cut = 1 - trusted.rmse() / without;
+        assertTrue(cut >= MIN_COLD_CUT, String.format(Locale.ROOT, "seed %d: cold RMSE with trust %.4f, without %.4f:"
+                + " cut %.1f%% over %d rows", seed, trusted.rmse(), without, 100 * cut, trusted.rows()));
     }
 }

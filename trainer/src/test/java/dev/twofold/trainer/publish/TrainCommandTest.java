@@ -23,8 +23,10 @@ class TrainCommandTest {
         TrainCommand command = new TrainCommand();
         new CommandLine(command).parseArgs("--rank", "12", "--lambda", "0.1", "--trust-weight", "0.3", "--trust-alpha", "5",
                 "--epochs", "7", "--seed", "9", "--holdout", "0.25", "--threads", "2", "--coupling", "none",
-                "--relevance", "3.5", "--k", "20", "--solver", "ccd", "--split", "time", "--patience", "4");
+                "--relevance", "3.5", "--k", "20", "--solver", "ccd", "--split", "time", "--patience", "4",
+                "--bias-prior", "1.5");
         TrainSettings s = command.settings();
+        assertEquals(1.5f, s.fit().biasPrior());
         assertEquals(12, s.fit().rank());
         assertEquals(0.1f, s.fit().lambda());
         assertEquals(0.3f, s.fit().trustWeight());
@@ -99,6 +101,7 @@ class TrainCommandTest {
         assertUsageError("solver 'sgd' is not one of als, ccd, greedy", "--solver", "sgd");
         assertUsageError("split 'random' is not one of user, time", "--split", "random");
         assertUsageError("patience -1 outside 0..1000", "--patience", "-1");
+        assertUsageError("bias prior -1.0 outside 0..1000000.0", "--bias-prior", "-1");
         assertUsageError("holdout 0.95 outside 0.01..0.9", "--holdout", "0.95");
         assertUsageError("relevance threshold 6.0 outside the rating scale 1.0..5.0", "--relevance", "6");
         assertUsageError("promote 'sometimes' is not one of auto, never, always", "--promote", "sometimes");

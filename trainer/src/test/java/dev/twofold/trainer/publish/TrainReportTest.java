@@ -75,6 +75,7 @@ class TrainReportTest {
         FitSettings fit = TrainSettings.defaults().fit();
         assertTrue(text.contains("parameters: rank " + fit.rank() + ", lambda " + fit.lambda() + ", coupling "
                 + fit.coupling().label()), text);
+        assertTrue(text.contains("bias prior 2, "), text);
         assertTrue(text.contains("promotion: --promote auto; gate: RMSE at most +0.5%, precision@10 at most -3%"), text);
         assertTrue(text.contains("fit 2.50s"), text);
         assertTrue(text.contains("total 2.62s"), text);
