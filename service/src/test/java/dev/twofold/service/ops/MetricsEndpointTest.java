@@ -47,8 +47,12 @@ class MetricsEndpointTest {
         do {
             scrape = community.api.get("/metrics");
             metrics = PrometheusText.parse(scrape.body());
+            // the history is read every 200 ms: wait for a reading taken after the broken retrain ended
+            // (its version counted and the newest outcome failed) before judging the gauges
             if (!metrics.samples("twofold_retrain_versions", s -> PrometheusText.hasLabels(s, "status", "failed")
-                    && s.value() == 1).isEmpty()) {
+                    && s.value() == 1).isEmpty()
+                    && !metrics.samples("twofold_retrain_last_outcome", s -> PrometheusText.hasLabels(s, "outcome",
+                            "failed") && s.value() == 1).isEmpty()) {
                 break;
             }
             Thread.sleep(100);
