@@ -15,8 +15,11 @@ import java.util.Locale;
  * @param lambda      λ of the weighted-λ ridge
  * @param trustWeight τ (shared) or β (neighbour)
  * @param trustAlpha  α, confidence of an observed trust edge (shared)
+ * @param biasPrior   γ, the extra γ·b² the trainer put on every bias (the {@code biasPrior} training
+ *                    parameter; 0 for models trained before it existed)
  */
-public record FoldSettings(String coupling, boolean biases, float lambda, float trustWeight, float trustAlpha) {
+public record FoldSettings(String coupling, boolean biases, float lambda, float trustWeight, float trustAlpha,
+        float biasPrior) {
 
     public static final String SHARED = "shared";
     public static final String NEIGHBOUR = "neighbour";
@@ -26,11 +29,17 @@ public record FoldSettings(String coupling, boolean biases, float lambda, float 
 
     public static FoldSettings of(ModelHeader header) {
         boolean biases = true;
+        float biasPrior = 0f;
         String params = header.paramsJson();
         if (params != null && !params.isBlank()) {
             try {
-                JsonNode node = JSON.readTree(params).path("biases");
+                JsonNode root = JSON.readTree(params);
+                JsonNode node = root.path("biases");
                 biases = !node.isBoolean() || node.booleanValue();
+                JsonNode prior = root.path("biasPrior");
+                if (prior.isNumber() && prior.floatValue() > 0f && Float.isFinite(prior.floatValue())) {
+                    biasPrior = prior.floatValue();
+                }
             } catch (JsonProcessingException e) {
                 throw new IllegalArgumentException("model " + header.id() + ": its parameters are not JSON ("
                         + e.getOriginalMessage() + ")", e);
@@ -38,7 +47,7 @@ public record FoldSettings(String coupling, boolean biases, float lambda, float 
         }
         String coupling = header.coupling() == null ? NONE : header.coupling().toLowerCase(Locale.ROOT);
         return new FoldSettings(coupling, biases, Math.max(0f, header.lambda()), Math.max(0f, header.trustWeight()),
-                Math.max(0f, header.trustAlpha()));
+                Math.max(0f, header.trustAlpha()), biasPrior);
     }
 
     /** Whether trust enters a fold-in through the trustee factors Z (T ≈ P·Zᵀ). */

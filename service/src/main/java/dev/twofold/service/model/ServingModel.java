@@ -94,11 +94,13 @@ public final class ServingModel {
         this.popularityOrder = b.popularityOrder;
         if (foldSettings.neighbours()) {
             this.foldIn = FoldIn.withNeighbours(rank, foldSettings.biases(), globalMean, foldSettings.lambda(),
-                    itemFactors, itemBias, userFactors, foldSettings.trustWeight());
+                    itemFactors, itemBias, userFactors, foldSettings.trustWeight())
+                    .withBiasPrior(foldSettings.biasPrior());
         } else {
             double[] gram = b.trustFactors == null ? null : FoldIn.gram(b.trustFactors, trainedUsers, rank);
             this.foldIn = new FoldIn(rank, foldSettings.biases(), globalMean, foldSettings.lambda(), itemFactors,
-                    itemBias, b.trustFactors, gram, foldSettings.trustWeight(), foldSettings.trustAlpha());
+                    itemBias, b.trustFactors, gram, foldSettings.trustWeight(), foldSettings.trustAlpha())
+                    .withBiasPrior(foldSettings.biasPrior());
         }
     }
 

@@ -100,6 +100,14 @@ public final class FoldInReference {
             rows.add(row);
             targets.add(0.0);
         }
+        // the bias prior γ (a training parameter) adds γ·b_u²: one more row √γ on the bias coordinate
+        double prior = dev.twofold.service.model.FoldSettings.of(h).biasPrior();
+        if (prior > 0) {
+            double[] row = new double[k + 1];
+            row[k] = Math.sqrt(prior);
+            rows.add(row);
+            targets.add(0.0);
+        }
         DMatrixRMaj a = new DMatrixRMaj(rows.size(), k + 1);
         DMatrixRMaj b = new DMatrixRMaj(rows.size(), 1);
         for (int r = 0; r < rows.size(); r++) {
