@@ -348,12 +348,16 @@ public final class Importer {
 
     /** Every stored rating, sorted by key. */
     private static Stored readAllRatings(CopyManager copy) throws SQLException, IOException {
+        return readStored(copy, "select user_idx, item_idx, rating, rated_at from ratings order by user_idx, item_idx");
+    }
+
+    /** The ratings a query returns as (user_idx, item_idx, rating, rated_at), in its order. */
+    private static Stored readStored(CopyManager copy, String query) throws SQLException, IOException {
         long[] key = new long[1024];
         float[] rating = new float[1024];
         long[] micros = new long[1024];
         int n = 0;
-        try (BinaryCopyReader in = BinaryCopyReader.open(copy, "select user_idx, item_idx, rating, rated_at from ratings"
-                + " order by user_idx, item_idx")) {
+        try (BinaryCopyReader in = BinaryCopyReader.open(copy, query)) {
             while (in.nextRow()) {
                 if (n == key.length) {
                     key = Arrays.copyOf(key, n * 2);
@@ -388,25 +392,8 @@ public final class Importer {
 
     private static Stored readStoredRatings(Connection c, CopyManager copy, long[] inKey, int m) throws SQLException, IOException {
         stageTouchedUsers(c, copy, inKey, m, "touched_raters");
-        long[] key = new long[1024];
-        float[] rating = new float[1024];
-        long[] micros = new long[1024];
-        int n = 0;
-        try (BinaryCopyReader in = BinaryCopyReader.open(copy, "select r.user_idx, r.item_idx, r.rating, r.rated_at"
-                + " from ratings r join touched_raters t on t.user_idx = r.user_idx order by r.user_idx, r.item_idx")) {
-            while (in.nextRow()) {
-                if (n == key.length) {
-                    key = Arrays.copyOf(key, n * 2);
-                    rating = Arrays.copyOf(rating, n * 2);
-                    micros = Arrays.copyOf(micros, n * 2);
-                }
-                key[n] = key(in.int4(), in.int4());
-                rating[n] = in.float4();
-                micros[n] = in.timestamptzOr(FieldRules.NO_TIME);
-                n++;
-            }
-        }
-        return new Stored(n, key, rating, micros);
+        return readStored(copy, "select r.user_idx, r.item_idx, r.rating, r.rated_at from ratings r join touched_raters t"
+                + " on t.user_idx = r.user_idx order by r.user_idx, r.item_idx");
     }
 
     /** A temporary table of the distinct first halves (user indices) of sorted keys. */
