@@ -20,6 +20,15 @@ interface BlockKernel {
     void dot(ItemPanels panels, int fromPanel, int toPanel, float[] x, int users, float[] out);
 
     /**
+     * How many users one pass of the kernel scores together at best: a caller with a few more
+     * users than a multiple of this may do better to pad the batch with zero vectors up to the
+     * next multiple (see {@link ScoringEngine}) than to have the rest scored one by one.
+     */
+    default int group() {
+        return 1;
+    }
+
+    /**
      * The items whose score beats a threshold: every i in {@code [first, last)} with
      * {@code s_i > threshold}, where s_i = {@code out[offset + i] + perItem[i]}, or
      * {@code out[offset + i] · perItem[i]} when {@code multiply}, written to {@code candidates} in

@@ -3,9 +3,11 @@ package dev.twofold.service.scoring;
 import dev.twofold.service.model.ItemPanels;
 import dev.twofold.service.model.ServingModel;
 import java.util.Arrays;
+import java.util.SplittableRandom;
 import java.util.concurrent.ArrayBlockingQueue;
 import java.util.concurrent.ConcurrentLinkedDeque;
 import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicInteger;
 import java.util.concurrent.locks.LockSupport;
 
@@ -34,6 +36,16 @@ import java.util.concurrent.locks.LockSupport;
  * itself (bound by cache bandwidth, about twice the cost per user of a batch of four). Waiters
  * never spin.
  *
+ * <p><b>Padding.</b> The SIMD kernel scores users four at a time; a lone user costs about what two
+ * cost in a group of four (it reads Q for itself). So a batch of 4g + 2 or 4g + 3 users is padded
+ * with zero vectors to 4(g + 1), whose results are dropped; only a single leftover user is
+ * scored alone.
+ *
+ * <p><b>Warm-up.</b> Until the JIT has compiled the kernel, the Vector API runs its portable
+ * fallback, some sixty times slower; under full load the compiler thread then gets a small share
+ * of the cores and a cold service answers slowly for tens of seconds. {@link #warmUp} scores a few
+ * hundred made-up batches against the first model before it takes traffic.
+ *
  * <p>Thread-safe. Jobs of different models (during a swap) are never batched together.
  */
 public final class ScoringEngine {
@@ -44,6 +56,15 @@ public final class ScoringEngine {
     static final int BLOCK_PANELS = 16;
     /** Jobs that must be waiting before a second (third, ...) thread starts scoring beside the first. */
     static final int EXTRA_COMBINER_BACKLOG = 4;
+    /** User-item scores the warm-up computes at least (about 0.2 s once compiled, at rank 64). */
+    static final long WARM_UP_SCORES = 40_000_000L;
+    /** The warm-up stops after this long even if it has not computed {@link #WARM_UP_SCORES}. */
+    private static final long WARM_UP_NANOS = TimeUnit.SECONDS.toNanos(3);
+    /** Batch sizes the warm-up cycles through: full, padded, a group and a lone user, and a lone user. */
+    private static final int[] WARM_UP_BATCHES = {MAX_BATCH, 7, 5, 1};
+    /** Compiled code is per JVM: the first warm-up in a process is enough for every engine in it. */
+    private static final AtomicBoolean WARM = new AtomicBoolean();
+    private static final int[] NO_SKIP = new int[0];
     /** A parked waiter re-checks at least this often (a safety net; hand-offs normally wake it). */
     private static final long PARK_NANOS = TimeUnit.MILLISECONDS.toNanos(10);
 
@@ -100,6 +121,74 @@ public final class ScoringEngine {
     public Ranked similar(ServingModel model, int item, int count, int[] skip, int skipFrom, int skipTo) {
         return run(new Job(model, model.itemFactors(), item * model.rank(), model.inverseNorms()[item], true, item,
                 count, skip, skipFrom, skipTo));
+    }
+
+    /**
+     * Has the JIT compile the scoring path before requests arrive: scores made-up users (random
+     * vectors, top 10) against {@code model} in batches of {@value #MAX_BATCH}, 7, 5 and 1 on the
+     * calling thread until {@value #WARM_UP_SCORES} user-item scores or 3 s. Does nothing after the
+     * first call in this JVM.
+     *
+     * @return batches scored (0 when already warm)
+     */
+    public int warmUp(ServingModel model) {
+        if (model.numItems() == 0 || !WARM.compareAndSet(false, true)) {
+            return 0;
+        }
+        int k = model.rank();
+        float[] x = new float[MAX_BATCH * k];
+        SplittableRandom random = new SplittableRandom(k);
+        for (int j = 0; j < x.length; j++) {
+            x[j] = (float) (random.nextDouble() - 0.5);
+        }
+        int[] offsets = new int[MAX_BATCH];
+        for (int b = 0; b < MAX_BATCH; b++) {
+            offsets[b] = b * k;
+        }
+        // every third item skipped, so the skip test is compiled for lists that hold something
+        int[] skip = new int[(model.numItems() + 2) / 3];
+        for (int j = 0; j < skip.length; j++) {
+            skip[j] = 3 * j;
+        }
+        Scratch s = new Scratch();
+        long start = System.nanoTime();
+        long scores = 0;
+        int batches = 0;
+        while (scores < WARM_UP_SCORES && System.nanoTime() - start < WARM_UP_NANOS) {
+            int size = WARM_UP_BATCHES[batches % WARM_UP_BATCHES.length];
+            rankTogether(s, model, x, Arrays.copyOf(offsets, size), 10, batches % 2 == 0 ? skip : NO_SKIP);
+            scores += (long) size * model.numItems();
+            batches++;
+        }
+        return batches;
+    }
+
+    /**
+     * Ranks the users whose vectors start at {@code x[offsets[b]]} as one batch on the calling
+     * thread, bypassing the queue: the best {@code count} items of each, leaving out the items in
+     * {@code skip} (sorted). For the warm-up and for tests of every batch size.
+     */
+    Ranked[] rankTogether(ServingModel model, float[] x, int[] offsets, int count, int[] skip) {
+        return rankTogether(new Scratch(), model, x, offsets, count, skip);
+    }
+
+    private Ranked[] rankTogether(Scratch s, ServingModel model, float[] x, int[] offsets, int count, int[] skip) {
+        if (offsets.length == 0 || offsets.length > MAX_BATCH) {
+            throw new IllegalArgumentException(offsets.length + " users in a batch; 1.." + MAX_BATCH + " fit");
+        }
+        for (int b = 0; b < offsets.length; b++) {
+            s.batch[b] = new Job(model, x, offsets[b], 1f, false, -1, count, skip, 0, skip.length);
+        }
+        Ranked[] out = new Ranked[offsets.length];
+        try {
+            score(s, offsets.length);
+            for (int b = 0; b < offsets.length; b++) {
+                out[b] = new Ranked(s.batch[b].items, s.batch[b].scores);
+            }
+        } finally {
+            Arrays.fill(s.batch, null);
+        }
+        return out;
     }
 
     private Ranked run(Job job) {
@@ -211,12 +300,14 @@ public final class ScoringEngine {
             }
             s.best[b].reset(Math.min(job.count, n));
         }
+        int lanes = padded(size, kernel.group());
+        Arrays.fill(s.x, size * k, lanes * k, 0f);
         float[] bias = model.itemBias();
         float[] inverseNorms = model.inverseNorms();
         int numPanels = panels.panels();
         for (int from = 0; from < numPanels; from += BLOCK_PANELS) {
             int to = Math.min(from + BLOCK_PANELS, numPanels);
-            kernel.dot(panels, from, to, s.x, size, s.out);
+            kernel.dot(panels, from, to, s.x, lanes, s.out);
             int stride = (to - from) * ItemPanels.WIDTH;
             int first = from * ItemPanels.WIDTH;
             int last = Math.min(to * ItemPanels.WIDTH, n);
@@ -235,6 +326,17 @@ public final class ScoringEngine {
             job.items = items;
             job.scores = scores;
         }
+    }
+
+    /**
+     * The users to hand the kernel for a batch of {@code size}: rounded up to a whole group when at
+     * least two would otherwise be left over (a pass over a group costs about what two lone users
+     * cost), as long as that fits the buffers.
+     */
+    static int padded(int size, int group) {
+        int rest = size % group;
+        int up = size - rest + group;
+        return rest >= 2 && up <= MAX_BATCH ? up : size;
     }
 
     /**

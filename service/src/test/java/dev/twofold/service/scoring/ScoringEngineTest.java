@@ -87,6 +87,58 @@ class ScoringEngineTest {
     }
 
     @Test
+    void a_batch_of_any_size_up_to_the_limit_ranks_each_user_as_a_plain_double_precision_scan_does() {
+        RandomModel m = new RandomModel(SEED + 4, 20, 333, 16, 0);
+        int[] skip = {0, 3, 7, 50, 51, 52, 200, 332};
+        ScoringEngine engine = new ScoringEngine(1, new VectorBlockKernel());
+        for (int size = 1; size <= ScoringEngine.MAX_BATCH; size++) {
+            int[] offsets = new int[size];
+            for (int b = 0; b < size; b++) {
+                offsets[b] = b * m.k; // users 0..size-1
+            }
+            Ranked[] got = engine.rankTogether(m.model, m.model.userFactors(), offsets, 15, skip);
+            for (int u = 0; u < size; u++) {
+                // reference: every item's b_i + p_u·q_i in double, a full sort, skipped items left out
+                double[] exact = new double[m.items];
+                Integer[] order = new Integer[m.items];
+                for (int i = 0; i < m.items; i++) {
+                    double dot = m.bI[i];
+                    for (int f = 0; f < m.k; f++) {
+                        dot += (double) m.P[u * m.k + f] * m.Q[i * m.k + f];
+                    }
+                    exact[i] = dot;
+                    order[i] = i;
+                }
+                java.util.Arrays.sort(order, (a, b) -> Double.compare(exact[b], exact[a]));
+                List<Integer> want = new ArrayList<>();
+                for (int i : order) {
+                    if (java.util.Arrays.binarySearch(skip, i) < 0 && want.size() < 15) {
+                        want.add(i);
+                    }
+                }
+                assertEquals(15, got[u].size(), "batch of " + size + ", user " + u);
+                for (int j = 0; j < 15; j++) {
+                    int item = got[u].items()[j];
+                    String where = "batch of " + size + ", user " + u + ", place " + j;
+                    assertTrue(java.util.Arrays.binarySearch(skip, item) < 0, where + ": skipped item " + item);
+                    assertEquals(exact[item], got[u].scores()[j], 1e-4, where);
+                    assertEquals(exact[want.get(j)], got[u].scores()[j], 1e-4, where);
+                }
+            }
+        }
+    }
+
+    @Test
+    void batches_are_padded_to_whole_groups_only_when_two_or_more_users_would_be_left_over() {
+        int[][] sizeToLanes = {{1, 1}, {2, 4}, {3, 4}, {4, 4}, {5, 5}, {6, 8}, {7, 8}, {9, 9}, {13, 13}, {14, 16},
+            {15, 16}, {16, 16}};
+        for (int[] pair : sizeToLanes) {
+            assertEquals(pair[1], ScoringEngine.padded(pair[0], 4), "batch of " + pair[0]);
+            assertEquals(pair[0], ScoringEngine.padded(pair[0], 1), "a kernel of single users pads nothing");
+        }
+    }
+
+    @Test
     void similar_items_are_ranked_by_cosine_without_the_item_itself() {
         RandomModel m = new RandomModel(SEED + 3, 5, 400, 12, 0);
         ScoringEngine engine = new ScoringEngine(1, new VectorBlockKernel());
