@@ -24,6 +24,7 @@ import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.RejectedExecutionException;
 import java.util.concurrent.TimeUnit;
+import org.eclipse.jetty.util.thread.QueuedThreadPool;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
 
@@ -140,7 +141,10 @@ public final class Service implements AutoCloseable {
             this.ops.metrics().trackDatabase(link::reachable);
         }
         this.http = new HttpApi(live::current, ranker, intake, control, access, link, this.ops.observer(),
-                this.ops::configure, settings.stopTimeout(), settings.retryAfterSeconds());
+                config -> {
+                    config.jetty.threadPool = httpThreads(settings.httpThreads());
+                    this.ops.configure(config);
+                }, settings.stopTimeout(), settings.retryAfterSeconds());
     }
 
     /**
@@ -214,8 +218,21 @@ public final class Service implements AutoCloseable {
         }
     }
 
+    /** A fixed pool of {@code size} HTTP threads (see {@link ServiceSettings#httpThreads()}). */
+    private static QueuedThreadPool httpThreads(int size) {
+        QueuedThreadPool pool = new QueuedThreadPool(size, size);
+        pool.setName("twofold-http");
+        return pool;
+    }
+
     /** Makes {@code next} the model that answers requests from now on; returns the one it replaced, if any. */
     public Optional<ServingModel> install(ServingModel next) {
+        long warmStart = System.nanoTime();
+        int warmBatches = ranker.engine().warmUp(next);
+        if (warmBatches > 0) {
+            LOG.info("scoring path compiled before the first model takes traffic: {} warm-up batches in {} ms",
+                    warmBatches, (System.nanoTime() - warmStart) / 1_000_000);
+        }
         Optional<ServingModel> previous = live.install(next);
         LOG.info("serving model {} ({} items, rank {})", next.id(), next.numItems(), next.rank());
         return previous;

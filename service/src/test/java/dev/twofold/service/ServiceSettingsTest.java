@@ -56,6 +56,19 @@ class ServiceSettingsTest {
     }
 
     @Test
+    void the_http_thread_count_defaults_to_eight_per_core_and_is_checked() {
+        int cores = Runtime.getRuntime().availableProcessors();
+        assertEquals(Math.max(16, 8 * cores), ServiceSettings.fromEnvironment(Map.of()).httpThreads());
+        assertEquals(40, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_THREADS", " 40 ")).httpThreads());
+        for (String value : new String[] {"7", "1001", "lots", "0"}) {
+            ConfigurationException e = assertThrows(ConfigurationException.class,
+                    () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_HTTP_THREADS", value)));
+            assertTrue(e.getMessage().contains("TWOFOLD_HTTP_THREADS") && e.getMessage().contains(value)
+                    && e.getMessage().contains("8..1000"), e.getMessage());
+        }
+    }
+
+    @Test
     void host_and_port_come_from_the_environment() {
         ServiceSettings settings = ServiceSettings.fromEnvironment(
                 Map.of("TWOFOLD_HTTP_HOST", " 127.0.0.1 ", "TWOFOLD_HTTP_PORT", "0"));

@@ -65,6 +65,37 @@ class ServiceTest {
     }
 
     @Test
+    void the_http_server_runs_on_a_fixed_pool_of_the_configured_size_and_answers_more_connections_than_threads()
+            throws Exception {
+        ServiceSettings eight = new ServiceSettings("127.0.0.1", 0, STOP_TIMEOUT, Duration.ofSeconds(2),
+                ServiceSettings.DEFAULT_FRESH_USERS, true, ServiceSettings.MIN_HTTP_THREADS);
+        try (Service service = new Service(eight)) {
+            int port = service.start();
+            service.install(KitchenModel.build());
+            long threads = Thread.getAllStackTraces().keySet().stream()
+                    .filter(t -> t.getName().startsWith("twofold-http")).count();
+            assertEquals(ServiceSettings.MIN_HTTP_THREADS, threads, "the pool is started whole and never grows");
+            // 24 clients at once on 8 threads (some taken by the acceptor and selector): all answered
+            ApiClient api = new ApiClient(port);
+            java.util.concurrent.ExecutorService clients = java.util.concurrent.Executors.newFixedThreadPool(24);
+            try {
+                List<CompletableFuture<Integer>> calls = new java.util.ArrayList<>();
+                for (int c = 0; c < 24; c++) {
+                    calls.add(CompletableFuture.supplyAsync(
+                            () -> api.get("/v1/users/cy/recommendations").statusCode(), clients));
+                }
+                for (CompletableFuture<Integer> call : calls) {
+                    assertEquals(200, call.get(WAIT.toSeconds(), TimeUnit.SECONDS));
+                }
+            } finally {
+                clients.shutdownNow();
+            }
+            assertEquals(threads, Thread.getAllStackTraces().keySet().stream()
+                    .filter(t -> t.getName().startsWith("twofold-http")).count());
+        }
+    }
+
+    @Test
     void installing_a_model_replaces_the_previous_one_for_the_next_request() {
         try (Service service = new Service(local())) {
             ApiClient api = new ApiClient(service.start());
