@@ -39,14 +39,20 @@ import java.util.regex.Pattern;
  *     dev.twofold.service.bench.ServingBenchmark [users items rank seconds connections rounds]
  * </pre>
  * Defaults: 100,000 users, 20,000 items, rank 64, 10 s per run, 32 connections, wrk with 2
- * threads, 5 rounds alternating bare and service after a 5 s warm-up of each; the median ratio of
+ * threads, 5 rounds alternating bare and service after a {@value #WARMUP_SECONDS} s warm-up of each; the median ratio of
  * the rounds is the figure (other work on a shared machine moves single runs a lot).
  */
 public final class ServingBenchmark {
 
     private static final long SEED = 20_000L;
     private static final int RATINGS_PER_USER = 20;
-    private static final int WARMUP_SECONDS = 5;
+    /**
+     * Warm-up of each server before the rounds. The service compiles its scoring kernel before it
+     * takes traffic, but the JIT compiles the HTTP path (the server, the framework, JSON) under
+     * load, where its compiler thread gets a small share of the two cores: the service reaches a
+     * steady rate only after some 30-60 s of traffic.
+     */
+    private static final int WARMUP_SECONDS = 30;
     private static final String WRK = "/usr/bin/wrk";
     /** The benchmark's own key, held in the service's key ring only (no database here). */
     private static final String KEY = "tf_serving-benchmark-key";
