@@ -10,6 +10,7 @@ import dev.twofold.service.fresh.LiveModel;
 import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.HttpApi;
+import dev.twofold.service.http.HttpWarmUp;
 import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.model.ModelSource;
 import dev.twofold.service.model.ServingModel;
@@ -150,8 +151,10 @@ public final class Service implements AutoCloseable {
     /**
      * With a database, makes a first attempt to reach it: read the API keys and load the active
      * model (a failure is logged; the service then starts not ready and keeps trying in the
-     * background, see {@link DatabaseLink}). Then binds {@link ServiceSettings#host()}:{@link
-     * ServiceSettings#port()} and starts serving.
+     * background, see {@link DatabaseLink}). Then, for {@link ServiceSettings#warmUp()}, sends
+     * requests to a throwaway loopback copy of the routes so the JIT compiles them ({@link
+     * HttpWarmUp}); then binds {@link ServiceSettings#host()}:{@link ServiceSettings#port()} and
+     * starts serving.
      *
      * @return the bound port (the chosen one when the setting is 0)
      * @throws ServiceStartException when the address cannot be bound
@@ -166,6 +169,7 @@ public final class Service implements AutoCloseable {
             if (link != null) {
                 link.connect();
             }
+            warmUpHttp();
             int port;
             try {
                 port = http.start(settings.host(), settings.port());
@@ -215,6 +219,24 @@ public final class Service implements AutoCloseable {
             if (keys != null) {
                 keys.start();
             }
+        }
+    }
+
+    /** Sends requests to a throwaway copy of the routes first (see {@link HttpWarmUp}); logged, never fatal. */
+    private void warmUpHttp() {
+        if (settings.warmUp().isZero()) {
+            return;
+        }
+        long start = System.nanoTime();
+        try {
+            long answered = HttpWarmUp.run(live::current, ranker,
+                    config -> config.jetty.threadPool = httpThreads(settings.httpThreads()), settings.warmUp());
+            LOG.info("HTTP path warmed with {} requests to a throwaway loopback server in {} ms", answered,
+                    (System.nanoTime() - start) / 1_000_000);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        } catch (RuntimeException e) {
+            LOG.warn("the HTTP warm-up failed ({}); serving without it", e.toString());
         }
     }
 

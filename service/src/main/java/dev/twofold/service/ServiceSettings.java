@@ -27,9 +27,13 @@ import java.util.Map;
  *                          make requests share the cores in smaller slices: on 2 cores at 32
  *                          connections, 16 threads served about a fifth more requests a second than
  *                          the framework's 250, at a lower tail latency (docs/benchmarks.md)
+ * @param warmUp            how long the service sends itself requests on a throwaway loopback server
+ *                          before it binds its port ({@code TWOFOLD_WARM_UP_SECONDS}, default
+ *                          {@value #DEFAULT_WARM_UP_SECONDS} s; 0 skips it), so the JIT compiles the
+ *                          HTTP path while the cores are free (see {@code HttpWarmUp})
  */
 public record ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval,
-        int freshUsers, boolean openAccess, int httpThreads) {
+        int freshUsers, boolean openAccess, int httpThreads, Duration warmUp) {
 
     public static final String HOST_VARIABLE = "TWOFOLD_HTTP_HOST";
     public static final String PORT_VARIABLE = "TWOFOLD_HTTP_PORT";
@@ -39,6 +43,9 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
     /** Fewest HTTP threads: the acceptor and selector take some, and a few must be left to answer. */
     public static final int MIN_HTTP_THREADS = 8;
     public static final int MAX_HTTP_THREADS = 1_000;
+    public static final String WARM_UP_VARIABLE = "TWOFOLD_WARM_UP_SECONDS";
+    public static final int DEFAULT_WARM_UP_SECONDS = 3;
+    public static final int MAX_WARM_UP_SECONDS = 120;
     public static final String ACCESS_KEYS = "keys";
     public static final String ACCESS_OPEN = "open";
     public static final String DEFAULT_HOST = "0.0.0.0";
@@ -73,6 +80,10 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
             throw new ConfigurationException(THREADS_VARIABLE + "=" + httpThreads + " is outside " + MIN_HTTP_THREADS
                     + ".." + MAX_HTTP_THREADS);
         }
+        if (warmUp == null || warmUp.isNegative() || warmUp.compareTo(Duration.ofSeconds(MAX_WARM_UP_SECONDS)) > 0) {
+            throw new ConfigurationException(WARM_UP_VARIABLE + "=" + (warmUp == null ? null : warmUp.toSeconds())
+                    + " is outside 0.." + MAX_WARM_UP_SECONDS + " seconds");
+        }
         if (openAccess && !loopback(host)) {
             throw new ConfigurationException(ACCESS_VARIABLE + "=" + ACCESS_OPEN + " admits every request without an API"
                     + " key and is for local development only, so it needs " + HOST_VARIABLE + "=127.0.0.1 (or ::1,"
@@ -81,14 +92,20 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
         }
     }
 
-    /** Settings that check API keys, with the default number of fresh users. */
+    /** These settings with a warm-up of {@code warmUp} before the port is bound. */
+    public ServiceSettings withWarmUp(Duration warmUp) {
+        return new ServiceSettings(host, port, stopTimeout, modelPollInterval, freshUsers, openAccess, httpThreads,
+                warmUp);
+    }
+
+    /** Settings that check API keys, with the default number of fresh users and no warm-up. */
     public ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval) {
         this(host, port, stopTimeout, modelPollInterval, DEFAULT_FRESH_USERS);
     }
 
-    /** Settings that check API keys. */
+    /** Settings that check API keys, without a warm-up. */
     public ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval, int freshUsers) {
-        this(host, port, stopTimeout, modelPollInterval, freshUsers, false, defaultHttpThreads());
+        this(host, port, stopTimeout, modelPollInterval, freshUsers, false, defaultHttpThreads(), Duration.ZERO);
     }
 
     /** HTTP threads when {@code TWOFOLD_HTTP_THREADS} is not set: 8 per available core, at least 16. */
@@ -98,8 +115,8 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
 
     /**
      * Defaults overridden by {@code TWOFOLD_HTTP_HOST}, {@code TWOFOLD_HTTP_PORT},
-     * {@code TWOFOLD_FRESH_USERS}, {@code TWOFOLD_ACCESS} and {@code TWOFOLD_HTTP_THREADS} when set
-     * and not blank.
+     * {@code TWOFOLD_FRESH_USERS}, {@code TWOFOLD_ACCESS}, {@code TWOFOLD_HTTP_THREADS} and
+     * {@code TWOFOLD_WARM_UP_SECONDS} when set and not blank.
      */
     public static ServiceSettings fromEnvironment(Map<String, String> env) {
         String host = env.get(HOST_VARIABLE);
@@ -107,6 +124,7 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
         String fresh = env.get(FRESH_USERS_VARIABLE);
         String access = env.get(ACCESS_VARIABLE);
         String threads = env.get(THREADS_VARIABLE);
+        String warmUp = env.get(WARM_UP_VARIABLE);
         boolean open = false;
         if (access != null && !access.isBlank()) {
             String mode = access.trim();
@@ -128,7 +146,9 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
                         "0.." + MAX_FRESH_USERS),
                 open,
                 threads == null || threads.isBlank() ? defaultHttpThreads() : parse(THREADS_VARIABLE, threads.trim(),
-                        MIN_HTTP_THREADS + ".." + MAX_HTTP_THREADS));
+                        MIN_HTTP_THREADS + ".." + MAX_HTTP_THREADS),
+                Duration.ofSeconds(warmUp == null || warmUp.isBlank() ? DEFAULT_WARM_UP_SECONDS
+                        : parse(WARM_UP_VARIABLE, warmUp.trim(), "0.." + MAX_WARM_UP_SECONDS + " seconds")));
     }
 
     /** Whether {@code host} names this machine only: 127.0.0.0/8, ::1 or localhost (no name lookup). */

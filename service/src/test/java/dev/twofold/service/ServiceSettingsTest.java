@@ -69,6 +69,18 @@ class ServiceSettingsTest {
     }
 
     @Test
+    void the_warm_up_lasts_three_seconds_unless_set_and_is_checked() {
+        assertEquals(Duration.ofSeconds(3), ServiceSettings.fromEnvironment(Map.of()).warmUp());
+        assertEquals(Duration.ZERO, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_WARM_UP_SECONDS", "0")).warmUp());
+        for (String value : new String[] {"-1", "121", "soon"}) {
+            ConfigurationException e = assertThrows(ConfigurationException.class,
+                    () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_WARM_UP_SECONDS", value)));
+            assertTrue(e.getMessage().contains("TWOFOLD_WARM_UP_SECONDS") && e.getMessage().contains(value)
+                    && e.getMessage().contains("0..120"), e.getMessage());
+        }
+    }
+
+    @Test
     void host_and_port_come_from_the_environment() {
         ServiceSettings settings = ServiceSettings.fromEnvironment(
                 Map.of("TWOFOLD_HTTP_HOST", " 127.0.0.1 ", "TWOFOLD_HTTP_PORT", "0"));

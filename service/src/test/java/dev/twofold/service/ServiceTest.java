@@ -68,7 +68,7 @@ class ServiceTest {
     void the_http_server_runs_on_a_fixed_pool_of_the_configured_size_and_answers_more_connections_than_threads()
             throws Exception {
         ServiceSettings eight = new ServiceSettings("127.0.0.1", 0, STOP_TIMEOUT, Duration.ofSeconds(2),
-                ServiceSettings.DEFAULT_FRESH_USERS, true, ServiceSettings.MIN_HTTP_THREADS);
+                ServiceSettings.DEFAULT_FRESH_USERS, true, ServiceSettings.MIN_HTTP_THREADS, Duration.ZERO);
         try (Service service = new Service(eight)) {
             int port = service.start();
             service.install(KitchenModel.build());
@@ -92,6 +92,28 @@ class ServiceTest {
             }
             assertEquals(threads, Thread.getAllStackTraces().keySet().stream()
                     .filter(t -> t.getName().startsWith("twofold-http")).count());
+        }
+    }
+
+    @Test
+    void the_warm_up_sends_requests_to_a_throwaway_server_that_leaves_nothing_behind() throws Exception {
+        // the warm-up answers requests (503s here: no model) ...
+        assertTrue(dev.twofold.service.http.HttpWarmUp.run(() -> null, new dev.twofold.service.scoring.Ranker(),
+                config -> { }, Duration.ofMillis(500)) > 0);
+        // ... and a service that warms up counts none of them and serves as usual afterwards
+        try (Service service = new Service(local().withWarmUp(Duration.ofSeconds(1)))) {
+            service.install(KitchenModel.build());
+            ApiClient api = new ApiClient(service.start());
+            assertEquals(200, api.get("/health/ready").statusCode());
+            String metrics = api.get("/metrics").body();
+            assertFalse(metrics.contains("/recommendations") || metrics.contains("/similar"),
+                    "warm-up requests were counted:\n" + metrics);
+            assertFalse(metrics.contains("unauthorized"), "the warm-up's keyless request was counted as a refusal");
+            assertTrue(Thread.getAllStackTraces().keySet().stream()
+                    .noneMatch(t -> t.isAlive() && t.getName().startsWith("twofold-warm-up")));
+            assertEquals(200, api.get("/v1/users/cy/recommendations").statusCode());
+            assertTrue(api.get("/metrics").body().contains("/v1/users/{user}/recommendations"),
+                    "a real request is counted");
         }
     }
 
