@@ -3,6 +3,7 @@ package dev.twofold.service.ops;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelHeader;
 import dev.twofold.db.registry.ModelRegistry;
+import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.http.ProblemType;
 import dev.twofold.service.http.ServingObserver;
 import dev.twofold.service.scoring.Strategy;
@@ -169,6 +170,7 @@ public final class Observability implements AutoCloseable {
         float ms = millis == null ? 0f : millis;
         metrics.requestFinished(method, route, status, problem, (long) (ms * 1_000_000.0));
         String id = ctx.attribute(ID_ATTRIBUTE);
-        requestLog.finish(id == null ? RequestLog.newId() : id, method, ctx.path(), route, status, ms, problem);
+        requestLog.finish(id == null ? RequestLog.newId() : id, method, ctx.path(), route, status, ms, problem,
+                ctx.attribute(AccessPolicy.CALLER_ATTRIBUTE));
     }
 }

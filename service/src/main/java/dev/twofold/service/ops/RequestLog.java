@@ -17,7 +17,8 @@ import org.slf4j.spi.LoggingEventBuilder;
  * its behalf carries it), and into the request line.
  *
  * <p>The request line goes to the logger {@value #LOGGER} at INFO: method, path, status,
- * duration, the route template, the problem type of an error, and the id, also as key-value pairs
+ * duration, the route template, the name of the API key the request was admitted with (never the
+ * key), the problem type of an error, and the id, also as key-value pairs
  * for the JSON log format. It never contains a header (the {@code Authorization} header in
  * particular), a query string or a body; the path is cut to {@value #MAX_PATH_CHARS} characters
  * and control characters are escaped so one request is always one line.
@@ -74,14 +75,20 @@ final class RequestLog {
      *
      * @param route       the matched route template, or null
      * @param problemType the problem type of an error response, or null
+     * @param caller      the name of the API key the request was admitted with, or null (never the key)
      */
-    void finish(String id, String method, String path, String route, int status, float millis, String problemType) {
+    void finish(String id, String method, String path, String route, int status, float millis, String problemType,
+            String caller) {
         try {
             if (log.isInfoEnabled()) {
                 String shownPath = printable(path);
                 String duration = String.format(Locale.ROOT, "%.2f", millis);
                 StringBuilder line = new StringBuilder(96).append(method).append(' ').append(shownPath).append(' ')
                         .append(status).append(' ').append(duration).append(" ms id=").append(id);
+                String shownCaller = caller == null ? null : printable(caller);
+                if (shownCaller != null) {
+                    line.append(" caller=").append(shownCaller);
+                }
                 if (problemType != null) {
                     line.append(" problem=").append(ServiceMetrics.problemSlug(problemType));
                 }
@@ -92,6 +99,9 @@ final class RequestLog {
                         .addKeyValue("route", route == null ? ServiceMetrics.UNMATCHED_ROUTE : route)
                         .addKeyValue("status", status)
                         .addKeyValue("duration_ms", duration);
+                if (shownCaller != null) {
+                    event = event.addKeyValue("caller", shownCaller);
+                }
                 if (problemType != null) {
                     event = event.addKeyValue("problem", ServiceMetrics.problemSlug(problemType));
                 }

@@ -9,8 +9,11 @@ import ch.qos.logback.classic.Level;
 import ch.qos.logback.classic.Logger;
 import ch.qos.logback.classic.spi.ILoggingEvent;
 import ch.qos.logback.core.read.ListAppender;
+import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
+import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.http.AccessPolicy;
 import dev.twofold.service.testing.ApiClient;
 import dev.twofold.service.testing.KitchenModel;
@@ -121,6 +124,38 @@ class RequestLogTest {
             assertFalse(everything.contains(SECRET.substring(8)), "the key leaked: " + everything);
             assertFalse(everything.contains("Bearer"), everything);
             assertFalse(everything.contains("count="), "the query string was logged: " + everything);
+        }
+    }
+
+    @Test
+    void the_request_line_names_the_key_a_request_was_admitted_with_never_the_key_itself() {
+        KeyRing keys = new KeyRing(1);
+        keys.replace(List.of(new ApiKeys.LiveKey(7, "bakery-site", KeyRole.READ, ApiKeys.hash(SECRET))));
+        try (Observability keyedOps = new Observability(OpsSettings.defaults(), null, Clock.systemUTC());
+                Service keyed = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(10),
+                        Duration.ofSeconds(1)), keys, keyedOps)) {
+            ApiClient client = new ApiClient(keyed.start());
+            keyed.install(KitchenModel.build());
+            lines.list.clear();
+            assertEquals(200, client.send(HttpRequest.newBuilder(client.uri("/v1/users/ana/recommendations"))
+                    .header("Authorization", "Bearer " + SECRET).GET()).statusCode());
+            assertEquals(401, client.send(HttpRequest.newBuilder(client.uri("/v1/users/ana/recommendations"))
+                    .header("Authorization", "Bearer tfk_live_not-a-key").GET()).statusCode());
+            assertEquals(200, client.get("/health/live").statusCode());
+
+            List<ILoggingEvent> events = new ArrayList<>(lines.list);
+            assertEquals(3, events.size());
+            assertTrue(events.get(0).getFormattedMessage().contains(" caller=bakery-site"),
+                    events.get(0).getFormattedMessage());
+            assertEquals("bakery-site", keyValues(events.get(0)).get("caller"));
+            for (ILoggingEvent unnamed : events.subList(1, 3)) {
+                assertFalse(unnamed.getFormattedMessage().contains("caller="), unnamed.getFormattedMessage());
+                assertFalse(keyValues(unnamed).containsKey("caller"), keyValues(unnamed).toString());
+            }
+            for (ILoggingEvent e : events) {
+                String everything = e.getFormattedMessage() + keyValues(e) + e.getMDCPropertyMap();
+                assertFalse(everything.contains(SECRET.substring(8)), "the key leaked: " + everything);
+            }
         }
     }
 
