@@ -2,13 +2,10 @@ package dev.twofold.service.bench;
 
 import dev.twofold.db.access.ApiKeys;
 import dev.twofold.db.access.KeyRole;
-import dev.twofold.db.registry.ModelFactors;
-import dev.twofold.db.snapshot.IdDirectory;
 import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
 import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.model.ServingModel;
-import dev.twofold.service.testing.KitchenModel;
 import io.javalin.Javalin;
 import java.io.IOException;
 import java.lang.management.ManagementFactory;
@@ -19,10 +16,8 @@ import java.nio.file.Path;
 import java.time.Duration;
 import java.time.ZonedDateTime;
 import java.util.ArrayList;
-import java.util.BitSet;
 import java.util.List;
 import java.util.Locale;
-import java.util.SplittableRandom;
 import java.util.concurrent.TimeUnit;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
@@ -209,43 +204,7 @@ public final class ServingBenchmark {
 
     /** Random factors, every user and item known, {@value #RATINGS_PER_USER} random rated items per user. */
     static ServingModel syntheticModel(int users, int items, int k, long seed) {
-        SplittableRandom random = new SplittableRandom(seed);
-        float[] P = new float[users * k];
-        float[] Q = new float[items * k];
-        for (int j = 0; j < P.length; j++) {
-            P[j] = (float) (random.nextDouble() - 0.5);
-        }
-        for (int j = 0; j < Q.length; j++) {
-            Q[j] = (float) (random.nextDouble() - 0.5);
-        }
-        float[] bU = new float[users];
-        float[] bI = new float[items];
-        float[] popularity = new float[items];
-        for (int i = 0; i < items; i++) {
-            bI[i] = (float) (random.nextDouble() - 0.5);
-            popularity[i] = random.nextInt(1000);
-        }
-        String[] userIds = new String[users];
-        String[] itemIds = new String[items];
-        for (int u = 0; u < users; u++) {
-            userIds[u] = "cook-" + u;
-        }
-        for (int i = 0; i < items; i++) {
-            itemIds[i] = "recipe-" + i;
-        }
-        int[] ratingUser = new int[users * RATINGS_PER_USER];
-        int[] ratingItem = new int[ratingUser.length];
-        for (int r = 0; r < ratingUser.length; r++) {
-            ratingUser[r] = r / RATINGS_PER_USER;
-            ratingItem[r] = random.nextInt(items);
-        }
-        BitSet knownUsers = new BitSet(users);
-        knownUsers.set(0, users);
-        BitSet knownItems = new BitSet(items);
-        knownItems.set(0, items);
-        ModelFactors factors = new ModelFactors(k, P, bU, knownUsers, Q, bI, popularity, knownItems, null);
-        return ServingModel.assemble(KitchenModel.header(1, k, users, items, 3.5f, 1f, 5f), factors,
-                new IdDirectory(userIds, itemIds), ratingUser, ratingItem);
+        return SyntheticModel.build(users, items, k, RATINGS_PER_USER, seed, true, false);
     }
 
     static {

@@ -1,15 +1,11 @@
 package dev.twofold.service.bench;
 
-import dev.twofold.db.registry.ModelFactors;
-import dev.twofold.db.snapshot.IdDirectory;
 import dev.twofold.db.snapshot.UserHistory;
 import dev.twofold.service.fresh.LiveModels;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Ranker;
-import dev.twofold.service.testing.KitchenModel;
 import java.lang.management.ManagementFactory;
 import java.util.Arrays;
-import java.util.BitSet;
 import java.util.List;
 import java.util.SplittableRandom;
 
@@ -100,49 +96,7 @@ public final class ServingFootprint {
     }
 
     private static ServingModel build(int users, int items, int k, int perUser, long seed, boolean shared) {
-        SplittableRandom random = new SplittableRandom(seed);
-        float[] P = new float[users * k];
-        float[] Q = new float[items * k];
-        for (int j = 0; j < P.length; j++) {
-            P[j] = (float) (random.nextDouble() - 0.5);
-        }
-        for (int j = 0; j < Q.length; j++) {
-            Q[j] = (float) (random.nextDouble() - 0.5);
-        }
-        float[] bU = new float[users];
-        float[] bI = new float[items];
-        float[] popularity = new float[items];
-        for (int i = 0; i < items; i++) {
-            popularity[i] = random.nextInt(1000);
-        }
-        String[] userIds = new String[users];
-        String[] itemIds = new String[items];
-        for (int u = 0; u < users; u++) {
-            userIds[u] = "cook-" + u;
-        }
-        for (int i = 0; i < items; i++) {
-            itemIds[i] = "recipe-" + i;
-        }
-        int[] ratingUser = new int[users * perUser];
-        int[] ratingItem = new int[ratingUser.length];
-        for (int r = 0; r < ratingUser.length; r++) {
-            ratingUser[r] = r / perUser;
-            ratingItem[r] = random.nextInt(items);
-        }
-        BitSet knownUsers = new BitSet(users);
-        knownUsers.set(0, users);
-        BitSet knownItems = new BitSet(items);
-        knownItems.set(0, items);
-        float[] Z = null;
-        if (shared) {
-            Z = new float[users * k];
-            for (int j = 0; j < Z.length; j++) {
-                Z[j] = (float) (random.nextDouble() - 0.5) * 0.1f;
-            }
-        }
-        ModelFactors factors = new ModelFactors(k, P, bU, knownUsers, Q, bI, popularity, knownItems, Z);
-        return ServingModel.assemble(KitchenModel.header(1, k, users, items, 3.5f, 1f, 5f), factors,
-                new IdDirectory(userIds, itemIds), ratingUser, ratingItem);
+        return SyntheticModel.build(users, items, k, perUser, seed, false, shared);
     }
 
     private static long usedHeap() {
