@@ -87,7 +87,8 @@ public final class Observability implements AutoCloseable {
     public void configure(JavalinConfig config) {
         config.routes.before(this::beginRequest);
         config.requestLogger.http(this::finishRequest);
-        config.routes.get("/metrics", ctx -> ctx.contentType(ServiceMetrics.CONTENT_TYPE).result(metrics.scrape()));
+        config.routes.get("/metrics", ctx -> ctx.contentType(ServiceMetrics.CONTENT_TYPE)
+                .result(history == null ? metrics.scrape() : history.consistent(metrics::scrape)));
         dashboard.register(config.routes);
     }
 

@@ -111,6 +111,8 @@ final class RetrainHistory {
     private final Supplier<Optional<Long>> previous;
     private final Clock clock;
     private final AtomicReference<Reading> reading = new AtomicReference<>();
+    /** The reading a scrape on this thread shows, pinned for the whole scrape (see {@link #consistent}). */
+    private final ThreadLocal<Reading> pinned = new ThreadLocal<>();
     private final Counter failures;
     private volatile String problem;
 
@@ -169,6 +171,27 @@ final class RetrainHistory {
         return reading.get();
     }
 
+    /**
+     * Runs {@code scrape} with every retrain gauge showing the one reading current when it began.
+     * Each gauge is evaluated on its own as the scrape goes; without the pin a refresh landing
+     * mid-scrape gave one scrape a version count from the new reading and the newest outcome from
+     * the old one.
+     */
+    <T> T consistent(Supplier<T> scrape) {
+        pinned.set(reading.get());
+        try {
+            return scrape.get();
+        } finally {
+            pinned.remove();
+        }
+    }
+
+    /** What a gauge shows now: the reading pinned on this thread by {@link #consistent}, else the latest. */
+    private Reading shown() {
+        Reading p = pinned.get();
+        return p != null ? p : reading.get();
+    }
+
     /** Why the last read failed, or null when it worked. */
     String problem() {
         return problem;
@@ -176,9 +199,9 @@ final class RetrainHistory {
 
     private void register(MeterRegistry meters) {
         for (String status : STATUSES) {
-            Gauge.builder("twofold.retrain.versions", reading,
-                            ref -> ref.get() == null ? Double.NaN
-                                    : ref.get().versions().stream().filter(v -> v.status().equals(status)).count())
+            Gauge.builder("twofold.retrain.versions", this,
+                            h -> h.shown() == null ? Double.NaN
+                                    : h.shown().versions().stream().filter(v -> v.status().equals(status)).count())
                     .description("Model versions in the registry by status (training, candidate, active, rejected,"
                             + " failed, retired)")
                     .tag("status", status)
@@ -186,9 +209,9 @@ final class RetrainHistory {
                     .register(meters);
         }
         for (String outcome : OUTCOMES) {
-            Gauge.builder("twofold.retrain.last.outcome", reading,
-                            ref -> ref.get() == null || ref.get().newest().isEmpty() ? Double.NaN
-                                    : ref.get().newest().get().outcome().equals(outcome) ? 1 : 0)
+            Gauge.builder("twofold.retrain.last.outcome", this,
+                            h -> h.shown() == null || h.shown().newest().isEmpty() ? Double.NaN
+                                    : h.shown().newest().get().outcome().equals(outcome) ? 1 : 0)
                     .description("1 for the outcome of the newest retrain (promoted, kept, rejected, failed, running),"
                             + " 0 for the others")
                     .tag("outcome", outcome)
@@ -215,8 +238,8 @@ final class RetrainHistory {
                 + " the active one (the rollback target)", r -> previousFigure(r, HeldOutFigures::rmse));
         gauge(meters, "twofold.model.previous.heldout.precision.at.k", null, "Held-out precision@k of the version that"
                 + " was live before the active one", r -> previousFigure(r, HeldOutFigures::precision));
-        Gauge.builder("twofold.retrain.history.age", reading, ref -> ref.get() == null ? Double.NaN
-                        : Duration.between(ref.get().readAt(), clock.instant()).toMillis() / 1000.0)
+        Gauge.builder("twofold.retrain.history.age", this, h -> h.shown() == null ? Double.NaN
+                        : Duration.between(h.shown().readAt(), clock.instant()).toMillis() / 1000.0)
                 .description("Time since the service last read the model registry")
                 .baseUnit("seconds")
                 .strongReference(true)
@@ -225,8 +248,10 @@ final class RetrainHistory {
 
     private void gauge(MeterRegistry meters, String name, String unit, String description,
             ToDoubleFunction<Reading> value) {
-        Gauge.Builder<AtomicReference<Reading>> builder = Gauge.builder(name, reading,
-                ref -> ref.get() == null ? Double.NaN : value.applyAsDouble(ref.get()))
+        Gauge.Builder<RetrainHistory> builder = Gauge.builder(name, this, h -> {
+            Reading r = h.shown();
+            return r == null ? Double.NaN : value.applyAsDouble(r);
+        })
                 .description(description)
                 .strongReference(true);
         if (unit != null) {
