@@ -15,6 +15,7 @@ import dev.twofold.service.model.ModelLoader;
 import dev.twofold.service.model.ModelSource;
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Ranker;
+import io.javalin.config.JavalinConfig;
 import java.util.List;
 import dev.twofold.service.ops.Observability;
 import dev.twofold.service.ops.OpsSettings;
@@ -143,7 +144,7 @@ public final class Service implements AutoCloseable {
         }
         this.http = new HttpApi(live::current, ranker, intake, control, access, link, this.ops.observer(),
                 config -> {
-                    config.jetty.threadPool = httpThreads(settings.httpThreads());
+                    useHttpThreads(config);
                     this.ops.configure(config);
                 }, settings.stopTimeout(), settings.retryAfterSeconds());
     }
@@ -229,8 +230,7 @@ public final class Service implements AutoCloseable {
         }
         long start = System.nanoTime();
         try {
-            long answered = HttpWarmUp.run(live::current, ranker,
-                    config -> config.jetty.threadPool = httpThreads(settings.httpThreads()), settings.warmUp());
+            long answered = HttpWarmUp.run(live::current, ranker, this::useHttpThreads, settings.warmUp());
             LOG.info("HTTP path warmed with {} requests to a throwaway loopback server in {} ms", answered,
                     (System.nanoTime() - start) / 1_000_000);
         } catch (InterruptedException e) {
@@ -240,11 +240,11 @@ public final class Service implements AutoCloseable {
         }
     }
 
-    /** A fixed pool of {@code size} HTTP threads (see {@link ServiceSettings#httpThreads()}). */
-    private static QueuedThreadPool httpThreads(int size) {
-        QueuedThreadPool pool = new QueuedThreadPool(size, size);
+    /** Serves on a fixed pool of {@link ServiceSettings#httpThreads()} threads, the warm-up server too. */
+    private void useHttpThreads(JavalinConfig config) {
+        QueuedThreadPool pool = new QueuedThreadPool(settings.httpThreads(), settings.httpThreads());
         pool.setName("twofold-http");
-        return pool;
+        config.jetty.threadPool = pool;
     }
 
     /** Makes {@code next} the model that answers requests from now on; returns the one it replaced, if any. */

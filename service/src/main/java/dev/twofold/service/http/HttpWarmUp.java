@@ -1,9 +1,11 @@
 package dev.twofold.service.http;
 
 import dev.twofold.service.fresh.LiveModel;
+import dev.twofold.service.scoring.Ranker;
 import io.javalin.config.JavalinConfig;
 import java.io.IOException;
 import java.net.URI;
+import java.net.URLEncoder;
 import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
@@ -15,12 +17,10 @@ import java.util.ArrayList;
 import java.util.HexFormat;
 import java.util.List;
 import java.util.Map;
-import java.util.concurrent.ExecutionException;
+import java.util.concurrent.Callable;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
-import java.util.concurrent.Future;
 import java.util.concurrent.TimeUnit;
-import java.util.concurrent.TimeoutException;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.function.Consumer;
 import java.util.function.Supplier;
@@ -56,7 +56,7 @@ public final class HttpWarmUp {
      *
      * @param server configures the throwaway server's threads like the real one's
      */
-    public static long run(Supplier<LiveModel> live, dev.twofold.service.scoring.Ranker ranker,
+    public static long run(Supplier<LiveModel> live, Ranker ranker,
             Consumer<JavalinConfig> server, Duration budget) throws InterruptedException {
         if (budget.isZero() || budget.isNegative()) {
             return 0;
@@ -93,7 +93,7 @@ public final class HttpWarmUp {
             int items = now.model().numItems();
             for (int j = 0; j < 4; j++) {
                 String item = now.model().itemId((int) ((long) j * items / 4));
-                paths.add("/v1/items/" + java.net.URLEncoder.encode(item, StandardCharsets.UTF_8)
+                paths.add("/v1/items/" + URLEncoder.encode(item, StandardCharsets.UTF_8)
                         .replace("+", "%20") + "/similar?count=10");
             }
         }
@@ -113,34 +113,29 @@ public final class HttpWarmUp {
                 .timeout(REQUEST_TIMEOUT).GET().build());
         long deadline = System.nanoTime() + budget.toNanos();
         AtomicLong answered = new AtomicLong();
+        List<Callable<Void>> loops = new ArrayList<>();
+        for (int c = 0; c < CLIENTS; c++) {
+            int first = c;
+            loops.add(() -> {
+                for (int n = first; System.nanoTime() < deadline; n++) {
+                    try {
+                        client.send(requests.get(n % requests.size()), HttpResponse.BodyHandlers.discarding());
+                        answered.incrementAndGet();
+                    } catch (IOException e) {
+                        return null; // only an optimisation: a client that cannot connect stops
+                    }
+                }
+                return null;
+            });
+        }
         ExecutorService clients = Executors.newFixedThreadPool(CLIENTS, r -> {
             Thread t = new Thread(r, "twofold-warm-up");
             t.setDaemon(true);
             return t;
         });
         try {
-            List<Future<?>> running = new ArrayList<>();
-            for (int c = 0; c < CLIENTS; c++) {
-                int first = c;
-                running.add(clients.submit(() -> {
-                    for (int n = first; System.nanoTime() < deadline; n++) {
-                        try {
-                            client.send(requests.get(n % requests.size()), HttpResponse.BodyHandlers.discarding());
-                            answered.incrementAndGet();
-                        } catch (IOException e) {
-                            return null; // only an optimisation: a client that cannot connect stops
-                        }
-                    }
-                    return null;
-                }));
-            }
-            for (Future<?> f : running) {
-                try {
-                    f.get(budget.toMillis() + 2 * REQUEST_TIMEOUT.toMillis(), TimeUnit.MILLISECONDS);
-                } catch (ExecutionException | TimeoutException e) {
-                    f.cancel(true);
-                }
-            }
+            // every request has its own timeout, so this returns soon after the deadline
+            clients.invokeAll(loops, budget.toMillis() + 2 * REQUEST_TIMEOUT.toMillis(), TimeUnit.MILLISECONDS);
         } finally {
             clients.shutdownNow();
             clients.awaitTermination(REQUEST_TIMEOUT.toMillis(), TimeUnit.MILLISECONDS);

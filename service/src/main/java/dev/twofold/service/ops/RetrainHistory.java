@@ -200,8 +200,7 @@ final class RetrainHistory {
     private void register(MeterRegistry meters) {
         for (String status : STATUSES) {
             Gauge.builder("twofold.retrain.versions", this,
-                            h -> h.shown() == null ? Double.NaN
-                                    : h.shown().versions().stream().filter(v -> v.status().equals(status)).count())
+                            shownOr(r -> r.versions().stream().filter(v -> v.status().equals(status)).count()))
                     .description("Model versions in the registry by status (training, candidate, active, rejected,"
                             + " failed, retired)")
                     .tag("status", status)
@@ -209,9 +208,8 @@ final class RetrainHistory {
                     .register(meters);
         }
         for (String outcome : OUTCOMES) {
-            Gauge.builder("twofold.retrain.last.outcome", this,
-                            h -> h.shown() == null || h.shown().newest().isEmpty() ? Double.NaN
-                                    : h.shown().newest().get().outcome().equals(outcome) ? 1 : 0)
+            Gauge.builder("twofold.retrain.last.outcome", this, shownOr(r -> r.newest()
+                            .map(v -> v.outcome().equals(outcome) ? 1.0 : 0.0).orElse(Double.NaN)))
                     .description("1 for the outcome of the newest retrain (promoted, kept, rejected, failed, running),"
                             + " 0 for the others")
                     .tag("outcome", outcome)
@@ -238,8 +236,8 @@ final class RetrainHistory {
                 + " the active one (the rollback target)", r -> previousFigure(r, HeldOutFigures::rmse));
         gauge(meters, "twofold.model.previous.heldout.precision.at.k", null, "Held-out precision@k of the version that"
                 + " was live before the active one", r -> previousFigure(r, HeldOutFigures::precision));
-        Gauge.builder("twofold.retrain.history.age", this, h -> h.shown() == null ? Double.NaN
-                        : Duration.between(h.shown().readAt(), clock.instant()).toMillis() / 1000.0)
+        Gauge.builder("twofold.retrain.history.age", this,
+                        shownOr(r -> Duration.between(r.readAt(), clock.instant()).toMillis() / 1000.0))
                 .description("Time since the service last read the model registry")
                 .baseUnit("seconds")
                 .strongReference(true)
@@ -248,16 +246,21 @@ final class RetrainHistory {
 
     private void gauge(MeterRegistry meters, String name, String unit, String description,
             ToDoubleFunction<Reading> value) {
-        Gauge.Builder<RetrainHistory> builder = Gauge.builder(name, this, h -> {
-            Reading r = h.shown();
-            return r == null ? Double.NaN : value.applyAsDouble(r);
-        })
+        Gauge.Builder<RetrainHistory> builder = Gauge.builder(name, this, shownOr(value))
                 .description(description)
                 .strongReference(true);
         if (unit != null) {
             builder.baseUnit(unit);
         }
         builder.register(meters);
+    }
+
+    /** A gauge function over {@link #shown()}: {@code value} of it, NaN before the first reading. */
+    private static ToDoubleFunction<RetrainHistory> shownOr(ToDoubleFunction<Reading> value) {
+        return h -> {
+            Reading r = h.shown();
+            return r == null ? Double.NaN : value.applyAsDouble(r);
+        };
     }
 
     private static double previousFigure(Reading r, ToDoubleFunction<HeldOutFigures> pick) {
