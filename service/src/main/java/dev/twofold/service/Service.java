@@ -330,8 +330,9 @@ public final class Service implements AutoCloseable {
             Thread.currentThread().interrupt();
         }
         if (wasStarted) {
-            http.stop();
+            http.stop(); // graceful: requests in flight are answered, and with them their scoring
         }
+        ranker.engine().close();
         if (ownsOps) {
             ops.close();
         }

@@ -26,11 +26,13 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.Optional;
+import java.util.concurrent.CompletableFuture;
 import java.util.function.Consumer;
 import java.util.function.Supplier;
 import org.eclipse.jetty.server.handler.GracefulHandler;
 import org.slf4j.Logger;
 import org.slf4j.LoggerFactory;
+import org.slf4j.MDC;
 
 /**
  * The HTTP API on Javalin: routes, the access check, limits and problem responses. What it answers
@@ -61,6 +63,13 @@ public final class HttpApi {
     private static final String OPENAPI_RESOURCE = "openapi.yaml";
     private static final String YAML = "application/yaml";
     private static final String ROLLBACK = "rollback";
+    /**
+     * Largest recommendation body a scoring thread writes itself. A write that fits the response
+     * buffer's aggregation size (set to at least twice this) only copies into the buffer, and the
+     * connection flushes it without the writer waiting; count = 10 makes about 600 bytes.
+     */
+    static final int INLINE_BODY_BYTES = 4096;
+    private static final CompletableFuture<Void> DONE = CompletableFuture.completedFuture(null);
     /** Same logger as the erasure's own audit line in the database layer. */
     private static final Logger AUDIT = LoggerFactory.getLogger("dev.twofold.audit");
 
@@ -142,6 +151,8 @@ public final class HttpApi {
 
     private void configure(JavalinConfig config, Duration stopTimeout) {
         config.startup.showJavalinBanner = false;
+        config.jetty.modifyHttpConfiguration(http -> http.setOutputAggregationSize(
+                Math.max(http.getOutputAggregationSize(), 2 * INLINE_BODY_BYTES)));
         config.http.maxRequestSize = Limits.MAX_BODY_BYTES;
         config.http.prefer405over404 = true;
         config.jetty.modifyServer(server -> {
@@ -178,6 +189,12 @@ public final class HttpApi {
         }
     }
 
+    /**
+     * Scores the user's items on the engine's scoring threads without holding an HTTP thread, and
+     * answers from the scoring thread when the body is small enough to go into the response
+     * buffer ({@link #INLINE_BODY_BYTES}); a larger body is written from an HTTP thread, so a
+     * client that reads slowly can never hold up the scoring of other requests.
+     */
     private void recommendations(Context ctx) {
         String user = RequestInput.id("user", ctx.pathParam("user"));
         int count = RequestInput.count(ctx);
@@ -185,18 +202,41 @@ public final class HttpApi {
         LiveModel now = requireLive();
         ServingModel m = now.model();
         UserVector vector = now.user(user);
-        Recommendation rec = ranker.recommend(m, vector, count, exclude);
-        if (observer != ServingObserver.NONE) {
-            observer.recommended(rec.strategy(), now.fresh().get(user) != null);
-        }
-        JsonOutput.send(ctx, 200, JsonOutput.JSON, json -> {
-            json.writeStartObject();
-            json.writeStringField("user", user);
-            json.writeNumberField("model", m.id());
-            json.writeStringField("strategy", rec.strategy().wireName());
-            writeItems(json, m, rec.items(), rec.scores());
-            json.writeEndObject();
+        Map<String, String> logContext = MDC.getCopyOfContextMap();
+        CompletableFuture<Void> answered = ranker.recommendLater(m, vector, count, exclude).thenCompose(rec -> {
+            restore(logContext);
+            if (observer != ServingObserver.NONE) {
+                observer.recommended(rec.strategy(), now.fresh().get(user) != null);
+            }
+            byte[] body = JsonOutput.bytes(json -> {
+                json.writeStartObject();
+                json.writeStringField("user", user);
+                json.writeNumberField("model", m.id());
+                json.writeStringField("strategy", rec.strategy().wireName());
+                writeItems(json, m, rec.items(), rec.scores());
+                json.writeEndObject();
+            });
+            ctx.status(200).contentType(JsonOutput.JSON);
+            if (body.length <= INLINE_BODY_BYTES) {
+                JsonOutput.write(ctx, body);
+                return DONE;
+            }
+            return CompletableFuture.runAsync(() -> {
+                restore(logContext);
+                JsonOutput.write(ctx, body);
+            }, app.jettyServer().server().getThreadPool());
         });
+        ctx.future(() -> answered);
+        if (!answered.isDone() && logContext != null) {
+            logContext.keySet().forEach(MDC::remove); // the request goes on on another thread
+        }
+    }
+
+    /** Gives the current thread the logging context of the request it now works on. */
+    private static void restore(Map<String, String> logContext) {
+        if (logContext != null) {
+            MDC.setContextMap(logContext);
+        }
     }
 
     private void similar(Context ctx) {

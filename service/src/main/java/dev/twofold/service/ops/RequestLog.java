@@ -71,7 +71,8 @@ final class RequestLog {
     }
 
     /**
-     * Writes the request line and clears the MDC.
+     * Writes the request line (with the id in the MDC, whichever thread finishes the request) and
+     * clears the MDC.
      *
      * @param route       the matched route template, or null
      * @param problemType the problem type of an error response, or null
@@ -80,6 +81,7 @@ final class RequestLog {
     void finish(String id, String method, String path, String route, int status, float millis, String problemType,
             String caller) {
         try {
+            MDC.put(MDC_KEY, id);
             if (log.isInfoEnabled()) {
                 String shownPath = printable(path);
                 String duration = String.format(Locale.ROOT, "%.2f", millis);

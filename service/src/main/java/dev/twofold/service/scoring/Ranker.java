@@ -3,6 +3,8 @@ package dev.twofold.service.scoring;
 import dev.twofold.service.model.ServingModel;
 import java.util.Arrays;
 import java.util.List;
+import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.CompletionException;
 
 /**
  * Ranks the items a user has not rated, and finds items similar to an item.
@@ -45,9 +47,22 @@ public final class Ranker {
 
     /**
      * The best {@code count} items for {@code user} under {@code model}, fewer when fewer are
-     * left after skipping rated and excluded items.
+     * left after skipping rated and excluded items. Blocks until scored.
      */
     public Recommendation recommend(ServingModel model, UserVector user, int count, List<String> exclude) {
+        try {
+            return recommendLater(model, user, count, exclude).join();
+        } catch (CompletionException e) {
+            throw e.getCause() instanceof RuntimeException cause ? cause : e;
+        }
+    }
+
+    /**
+     * {@link #recommend} without blocking: already complete for {@link Strategy#POPULAR}, else
+     * completed on one of the engine's scoring threads (see {@link ScoringEngine#rankLater}).
+     */
+    public CompletableFuture<Recommendation> recommendLater(ServingModel model, UserVector user, int count,
+            List<String> exclude) {
         if (count < 0) {
             throw new IllegalArgumentException("count " + count + " must be >= 0");
         }
@@ -61,15 +76,17 @@ public final class Ranker {
             skipTo = skip.length;
         }
         if (!user.hasVector()) {
-            return rankByPopularity(model, count, skip, skipFrom, skipTo);
+            return CompletableFuture.completedFuture(rankByPopularity(model, count, skip, skipFrom, skipTo));
         }
-        Ranked ranked = engine.rank(model, user.factors(), user.offset(), count, skip, skipFrom, skipTo);
-        float[] scores = ranked.scores();
         double base = (double) model.globalMean() + user.bias();
-        for (int j = 0; j < scores.length; j++) {
-            scores[j] = model.clampToScale(base + scores[j]);
-        }
-        return new Recommendation(user.strategy(), ranked.items(), scores);
+        return engine.rankLater(model, user.factors(), user.offset(), count, skip, skipFrom, skipTo)
+                .thenApply(ranked -> {
+                    float[] scores = ranked.scores();
+                    for (int j = 0; j < scores.length; j++) {
+                        scores[j] = model.clampToScale(base + scores[j]);
+                    }
+                    return new Recommendation(user.strategy(), ranked.items(), scores);
+                });
     }
 
     /**

@@ -3,9 +3,13 @@ package dev.twofold.service.scoring;
 import dev.twofold.service.model.ItemPanels;
 import dev.twofold.service.model.ServingModel;
 import java.util.Arrays;
+import java.util.List;
 import java.util.SplittableRandom;
-import java.util.concurrent.ArrayBlockingQueue;
+import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.CompletionException;
 import java.util.concurrent.ConcurrentLinkedDeque;
+import java.util.concurrent.ConcurrentLinkedQueue;
+import java.util.concurrent.CopyOnWriteArrayList;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicInteger;
@@ -24,17 +28,15 @@ import java.util.concurrent.locks.LockSupport;
  * (rated and excluded items) only when its score would enter the heap. Cost per batch:
  * O(n·k·batch) arithmetic, O(n·k) reads of Q, O(n·batch) comparisons.
  *
- * <p><b>How requests meet (flat combining).</b> There is no scoring thread. A request enqueues a
- * job; if it may become a combiner, its own thread takes a scratch area and scores batches of
- * whatever is queued (up to {@value #MAX_BATCH} jobs of the same model) until its own job is done,
- * then hands the scratch area back and wakes the waiter at the head of the queue. Otherwise it
- * parks until a combiner has scored its job or hands over. A thread may become a combiner when
- * nobody is scoring, or when at least {@value #EXTRA_COMBINER_BACKLOG} jobs wait and a scratch
- * area is free (at most {@code combiners}, default one per core). So with little traffic a
- * request is scored by its own thread at once; under load, batches form by themselves, and a
- * second core joins only when there is a backlog worth a batch: a lone user reads all of Q for
- * itself (bound by cache bandwidth, about twice the cost per user of a batch of four). Waiters
- * never spin.
+ * <p><b>How requests meet.</b> {@code scorers} scoring threads (one per core by default, started
+ * on the first request) take the queued jobs, up to {@value #MAX_BATCH} of the same model at a
+ * time, and score them in one pass. A request never holds a thread while it waits: {@link
+ * #rankLater} returns a future that a scoring thread completes, so every request in flight can
+ * join the next batch (the HTTP layer answers from that thread; see {@code HttpApi}), and the
+ * blocking {@link #rank} and {@link #similar} simply wait for it. One scoring thread is woken
+ * when nobody is scoring; another joins only when at least {@value #EXTRA_SCORER_BACKLOG} jobs
+ * wait, because a lone user reads all of Q for itself (bound by cache bandwidth, about twice the
+ * cost per user of a batch of four). Idle scoring threads park; nothing spins.
  *
  * <p><b>Padding.</b> The SIMD kernel scores users four at a time; a lone user costs about what two
  * cost in a group of four (it reads Q for itself). So a batch of 4g + 2 or 4g + 3 users is padded
@@ -55,7 +57,7 @@ public final class ScoringEngine {
     /** Panels per cache block: 16 × 16 items × k floats = 64 KiB at k = 64. */
     static final int BLOCK_PANELS = 16;
     /** Jobs that must be waiting before a second (third, ...) thread starts scoring beside the first. */
-    static final int EXTRA_COMBINER_BACKLOG = 4;
+    static final int EXTRA_SCORER_BACKLOG = 4;
     /** User-item scores the warm-up computes at least (about 0.2 s once compiled, at rank 64). */
     static final long WARM_UP_SCORES = 40_000_000L;
     /** The warm-up stops after this long even if it has not computed {@link #WARM_UP_SCORES}. */
@@ -65,32 +67,33 @@ public final class ScoringEngine {
     /** Compiled code is per JVM: the first warm-up in a process is enough for every engine in it. */
     private static final AtomicBoolean WARM = new AtomicBoolean();
     private static final int[] NO_SKIP = new int[0];
-    /** A parked waiter re-checks at least this often (a safety net; hand-offs normally wake it). */
-    private static final long PARK_NANOS = TimeUnit.MILLISECONDS.toNanos(10);
+    /** An idle scoring thread re-checks the queue at least this often (a safety net; submits wake it). */
+    private static final long PARK_NANOS = TimeUnit.MILLISECONDS.toNanos(50);
 
     private final BlockKernel kernel;
-    private final int combiners;
+    private final int scorers;
     private final ConcurrentLinkedDeque<Job> pending = new ConcurrentLinkedDeque<>();
     /** Jobs in {@link #pending}, kept beside it (the deque's size() walks the whole deque). */
     private final AtomicInteger queued = new AtomicInteger();
-    /** A free scratch area is the right to score; taking one makes a thread a combiner. */
-    private final ArrayBlockingQueue<Scratch> idle;
+    /** Scoring threads parked for want of work; a submit takes one out to wake it. */
+    private final ConcurrentLinkedQueue<Thread> sleeping = new ConcurrentLinkedQueue<>();
+    /** Scoring threads not in {@link #sleeping} (started ones count as awake until they park). */
+    private final AtomicInteger awake = new AtomicInteger();
+    private final AtomicBoolean started = new AtomicBoolean();
+    private final List<Thread> threads = new CopyOnWriteArrayList<>();
+    private volatile boolean closed;
 
-    /** One combiner per available processor, with the fastest kernel this JVM can run. */
+    /** One scoring thread per available processor, with the fastest kernel this JVM can run. */
     public ScoringEngine() {
         this(Runtime.getRuntime().availableProcessors(), BlockKernels.best());
     }
 
-    ScoringEngine(int combiners, BlockKernel kernel) {
-        if (combiners < 1) {
-            throw new IllegalArgumentException("combiners " + combiners + " must be >= 1");
+    ScoringEngine(int scorers, BlockKernel kernel) {
+        if (scorers < 1) {
+            throw new IllegalArgumentException("scorers " + scorers + " must be >= 1");
         }
         this.kernel = kernel;
-        this.combiners = combiners;
-        this.idle = new ArrayBlockingQueue<>(combiners);
-        for (int c = 0; c < combiners; c++) {
-            idle.add(new Scratch());
-        }
+        this.scorers = scorers;
     }
 
     /** Whether the SIMD kernel is in use (the JVM resolved {@code jdk.incubator.vector}). */
@@ -100,8 +103,8 @@ public final class ScoringEngine {
 
     /** What scores the items: the kernel in use, for the start-up log. */
     public String description() {
-        return kernel.description() + ", up to " + MAX_BATCH + " requests per pass over Q, " + combiners
-                + " combiners";
+        return kernel.description() + ", up to " + MAX_BATCH + " requests per pass over Q, " + scorers
+                + " scoring threads";
     }
 
     /**
@@ -110,7 +113,19 @@ public final class ScoringEngine {
      * ascending). Equal scores rank the lower item index first. Blocks until scored.
      */
     public Ranked rank(ServingModel model, float[] x, int xOffset, int count, int[] skip, int skipFrom, int skipTo) {
-        return run(new Job(model, x, xOffset, 1f, false, -1, count, skip, skipFrom, skipTo));
+        return await(rankLater(model, x, xOffset, count, skip, skipFrom, skipTo));
+    }
+
+    /**
+     * {@link #rank} without blocking: the future completes on a scoring thread, and whatever is
+     * chained to it without an executor runs there too, so it must not block. The caller must not
+     * change {@code x} or {@code skip} before it completes.
+     */
+    public CompletableFuture<Ranked> rankLater(ServingModel model, float[] x, int xOffset, int count, int[] skip,
+            int skipFrom, int skipTo) {
+        Job job = new Job(model, x, xOffset, 1f, false, -1, count, skip, skipFrom, skipTo);
+        submit(job);
+        return job.result;
     }
 
     /**
@@ -119,8 +134,22 @@ public final class ScoringEngine {
      * with all-zero factors have similarity 0.
      */
     public Ranked similar(ServingModel model, int item, int count, int[] skip, int skipFrom, int skipTo) {
-        return run(new Job(model, model.itemFactors(), item * model.rank(), model.inverseNorms()[item], true, item,
-                count, skip, skipFrom, skipTo));
+        Job job = new Job(model, model.itemFactors(), item * model.rank(), model.inverseNorms()[item], true, item,
+                count, skip, skipFrom, skipTo);
+        submit(job);
+        return await(job.result);
+    }
+
+    /**
+     * Stops the scoring threads once they finish the batch in hand; jobs still queued, and any
+     * submitted later, fail with an {@link IllegalStateException}. Safe to call again.
+     */
+    public void close() {
+        closed = true;
+        for (Thread t : threads) {
+            LockSupport.unpark(t);
+        }
+        failQueued();
     }
 
     /**
@@ -191,76 +220,102 @@ public final class ScoringEngine {
         return out;
     }
 
-    private Ranked run(Job job) {
+    private static Ranked await(CompletableFuture<Ranked> result) {
+        try {
+            return result.join();
+        } catch (CompletionException e) {
+            throw e.getCause() instanceof RuntimeException cause ? cause : e;
+        }
+    }
+
+    private void submit(Job job) {
         if (job.count < 0) {
             throw new IllegalArgumentException("count " + job.count + " must be >= 0");
         }
+        if (!started.get() && started.compareAndSet(false, true)) {
+            startScorers();
+        }
         queued.incrementAndGet();
         pending.offerLast(job);
-        while (!job.done) {
-            Scratch s = mayCombine() ? idle.poll() : null;
-            if (s == null) {
-                LockSupport.parkNanos(this, PARK_NANOS);
-                continue;
-            }
-            boolean scored;
-            try {
-                scored = combine(s, job);
-            } finally {
-                idle.offer(s);
-            }
-            handOff();
-            if (!job.done && !scored) {
-                // our job is in another combiner's batch right now; it wakes us when done
-                LockSupport.parkNanos(this, PARK_NANOS);
-            }
+        if (closed) {
+            failQueued(); // close() may have swept the queue before this job arrived
+        } else if (awake.get() == 0 || queued.get() >= EXTRA_SCORER_BACKLOG) {
+            wakeOne();
         }
-        if (job.failure != null) {
-            throw new IllegalStateException("scoring failed in the batch that held this request", job.failure);
-        }
-        return new Ranked(job.items, job.scores);
     }
 
-    /** Nobody is scoring, or enough jobs wait to make another combiner worth it. */
-    private boolean mayCombine() {
-        return idle.size() == combiners || queued.get() >= EXTRA_COMBINER_BACKLOG;
+    private void startScorers() {
+        awake.set(scorers);
+        for (int c = 0; c < scorers; c++) {
+            Thread t = new Thread(this::scoreUntilClosed, "twofold-scoring-" + c);
+            t.setDaemon(true);
+            threads.add(t);
+            t.start();
+        }
     }
 
-    /** Scores batches until {@code mine} is done or nothing is queued; true when it scored anything. */
-    private boolean combine(Scratch s, Job mine) {
-        boolean scored = false;
-        while (!mine.done) {
+    /** Wakes a parked scoring thread, if there is one. */
+    private void wakeOne() {
+        Thread t = sleeping.poll();
+        if (t != null) {
+            awake.incrementAndGet();
+            LockSupport.unpark(t);
+        }
+    }
+
+    /**
+     * A scoring thread's life: score batches while jobs wait; when none does, go on the sleeping
+     * list, look once more (a job queued just before that saw this thread awake and did not wake
+     * anyone), and park. Whoever wakes a thread takes it off the list first; a thread that wakes
+     * by itself (timeout, spurious) takes itself off.
+     */
+    private void scoreUntilClosed() {
+        Scratch s = new Scratch();
+        Thread me = Thread.currentThread();
+        while (!closed) {
             int size = drain(s);
             if (size == 0) {
-                return scored;
-            }
-            if (queued.get() >= EXTRA_COMBINER_BACKLOG && !idle.isEmpty()) {
-                handOff(); // enough left for another batch: let a waiter score it on another core
-            }
-            scored = true;
-            try {
-                score(s, size);
-            } catch (RuntimeException | Error e) {
-                for (int b = 0; b < size; b++) {
-                    s.batch[b].failure = e;
+                awake.decrementAndGet();
+                sleeping.offer(me);
+                if (pending.isEmpty() && !closed) {
+                    LockSupport.parkNanos(this, PARK_NANOS);
                 }
-            } finally {
-                for (int b = 0; b < size; b++) {
-                    Job job = s.batch[b];
-                    s.batch[b] = null;
-                    job.done = true;
-                    LockSupport.unpark(job.waiter);
+                if (sleeping.remove(me)) {
+                    awake.incrementAndGet();
                 }
+                continue;
             }
+            if (queued.get() >= EXTRA_SCORER_BACKLOG) {
+                wakeOne(); // enough left for another batch: score it on another core meanwhile
+            }
+            scoreAndComplete(s, size);
         }
-        return scored;
     }
 
-    /** Wakes the waiter of the oldest queued job so it can take the scratch area just freed. */
-    private void handOff() {
-        Job head = pending.peekFirst();
-        if (head != null) {
-            LockSupport.unpark(head.waiter);
+    /** Scores a drained batch and completes its jobs (running what callers chained to them). */
+    private void scoreAndComplete(Scratch s, int size) {
+        IllegalStateException failure = null;
+        try {
+            score(s, size);
+        } catch (RuntimeException | Error e) {
+            failure = new IllegalStateException("scoring failed in the batch that held this request", e);
+        }
+        for (int b = 0; b < size; b++) {
+            Job job = s.batch[b];
+            s.batch[b] = null;
+            if (failure == null) {
+                job.result.complete(new Ranked(job.items, job.scores));
+            } else {
+                job.result.completeExceptionally(failure);
+            }
+        }
+    }
+
+    private void failQueued() {
+        Job job;
+        while ((job = pending.pollFirst()) != null) {
+            queued.decrementAndGet();
+            job.result.completeExceptionally(new IllegalStateException("the scoring engine is closed"));
         }
     }
 
@@ -370,11 +425,9 @@ public final class ScoringEngine {
         final int[] skip;
         final int skipFrom;
         final int skipTo;
-        final Thread waiter = Thread.currentThread();
+        final CompletableFuture<Ranked> result = new CompletableFuture<>();
         int[] items;
         float[] scores;
-        Throwable failure;
-        volatile boolean done;
 
         Job(ServingModel model, float[] x, int xOffset, float scale, boolean cosine, int self, int count, int[] skip,
                 int skipFrom, int skipTo) {
@@ -395,7 +448,7 @@ public final class ScoringEngine {
         }
     }
 
-    /** One combiner's buffers, grown to the largest rank seen. */
+    /** One scoring thread's buffers, grown to the largest rank seen. */
     private static final class Scratch {
         final Job[] batch = new Job[MAX_BATCH];
         final TopK[] best = new TopK[MAX_BATCH];

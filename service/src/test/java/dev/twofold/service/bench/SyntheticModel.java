@@ -12,7 +12,7 @@ import java.util.SplittableRandom;
  * {@code recipe-N}, every one known to the model, factors uniform in [-0.5, 0.5), {@code perUser}
  * random rated recipes per cook. Only for measuring; nothing here is a realistic model.
  */
-final class SyntheticModel {
+public final class SyntheticModel {
 
     private SyntheticModel() {
     }
@@ -21,7 +21,7 @@ final class SyntheticModel {
      * @param itemBias    draw item biases uniform in [-0.5, 0.5) (else all zero)
      * @param trustFactors draw trust factors Z (small, uniform in [-0.05, 0.05)) as the shared coupling has
      */
-    static ServingModel build(int users, int items, int k, int perUser, long seed, boolean itemBias,
+    public static ServingModel build(int users, int items, int k, int perUser, long seed, boolean itemBias,
             boolean trustFactors) {
         SplittableRandom random = new SplittableRandom(seed);
         float[] P = uniform(random, users * k, 1f);

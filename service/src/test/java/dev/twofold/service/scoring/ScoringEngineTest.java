@@ -2,12 +2,14 @@ package dev.twofold.service.scoring;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.testing.RandomModel;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.concurrent.CompletableFuture;
 import java.util.concurrent.CountDownLatch;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
@@ -163,6 +165,44 @@ class ScoringEngineTest {
                 }
             }
         }
+    }
+
+    @Test
+    void later_answers_equal_blocking_ones_and_complete_on_a_scoring_thread() throws Exception {
+        RandomModel m = new RandomModel(SEED + 5, 40, 500, 16, 5);
+        ScoringEngine engine = new ScoringEngine(2, new VectorBlockKernel());
+        try {
+            List<CompletableFuture<String>> threads = new ArrayList<>();
+            List<CompletableFuture<Ranked>> later = new ArrayList<>();
+            for (int user = 0; user < m.users; user++) {
+                CompletableFuture<Ranked> answer = engine.rankLater(m.model, m.model.userFactors(), user * 16, 15,
+                        m.model.ratedItems(), m.model.ratedStart(user), m.model.ratedEnd(user));
+                later.add(answer);
+                threads.add(answer.thenApply(r -> Thread.currentThread().getName()));
+            }
+            for (int user = 0; user < m.users; user++) {
+                Ranked want = rank(engine, m.model, user);
+                Ranked got = later.get(user).get(10, TimeUnit.SECONDS);
+                assertArrayEquals(want.items(), got.items(), "user " + user);
+                assertArrayEquals(want.scores(), got.scores(), "user " + user);
+                String thread = threads.get(user).get(10, TimeUnit.SECONDS);
+                // completed on a scoring thread, or on this one when it was already done
+                assertTrue(thread.startsWith("twofold-scoring-") || thread.equals(Thread.currentThread().getName()),
+                        thread);
+            }
+        } finally {
+            engine.close();
+        }
+    }
+
+    @Test
+    void a_closed_engine_refuses_work_with_a_clear_error() {
+        RandomModel m = new RandomModel(SEED + 6, 5, 100, 8, 0);
+        ScoringEngine engine = new ScoringEngine(1, new VectorBlockKernel());
+        assertEquals(15, rank(engine, m.model, 0).size());
+        engine.close();
+        IllegalStateException e = assertThrows(IllegalStateException.class, () -> rank(engine, m.model, 1));
+        assertEquals("the scoring engine is closed", e.getMessage());
     }
 
     private static Ranked rank(ScoringEngine engine, ServingModel model, int user) {
