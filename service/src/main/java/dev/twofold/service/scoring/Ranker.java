@@ -4,7 +4,6 @@ import dev.twofold.service.model.ServingModel;
 import java.util.Arrays;
 import java.util.List;
 import java.util.concurrent.CompletableFuture;
-import java.util.concurrent.CompletionException;
 
 /**
  * Ranks the items a user has not rated, and finds items similar to an item.
@@ -50,11 +49,7 @@ public final class Ranker {
      * left after skipping rated and excluded items. Blocks until scored.
      */
     public Recommendation recommend(ServingModel model, UserVector user, int count, List<String> exclude) {
-        try {
-            return recommendLater(model, user, count, exclude).join();
-        } catch (CompletionException e) {
-            throw e.getCause() instanceof RuntimeException cause ? cause : e;
-        }
+        return ScoringEngine.await(recommendLater(model, user, count, exclude));
     }
 
     /**

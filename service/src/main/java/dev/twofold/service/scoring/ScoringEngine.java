@@ -220,7 +220,8 @@ public final class ScoringEngine {
         return out;
     }
 
-    private static Ranked await(CompletableFuture<Ranked> result) {
+    /** Waits for {@code result}; a failure is rethrown as itself, not wrapped. */
+    static <T> T await(CompletableFuture<T> result) {
         try {
             return result.join();
         } catch (CompletionException e) {
