@@ -1,6 +1,7 @@
 package dev.twofold.service.http;
 
 import dev.twofold.service.fresh.LiveModel;
+import dev.twofold.service.model.ServingModel;
 import dev.twofold.service.scoring.Ranker;
 import io.javalin.config.JavalinConfig;
 import java.io.IOException;
@@ -37,14 +38,19 @@ import java.util.function.Supplier;
  * stopped before the real one binds: nothing reaches the real metrics or request log, no write
  * route can store anything (the throwaway server has no database), and its {@code /v1} routes
  * admit only a random one-off key held in memory for the warm-up. Only reads are sent:
- * {@code /health/live}, {@code /health/ready}, recommendations for made-up users (popularity or
- * 503 without a model), similar items of the model's items, and a request without a key (401).
+ * {@code /health/live}, {@code /health/ready}, recommendations for users of the model (most of the
+ * requests: the path real traffic takes) and for made-up users (popularity, or 503 without a
+ * model), similar items of the model's items, and a request without a key (401).
  */
 public final class HttpWarmUp {
 
     /** Concurrent clients: enough that the server's requests batch as under real load. */
     static final int CLIENTS = 8;
     private static final Duration REQUEST_TIMEOUT = Duration.ofSeconds(5);
+    /** Users with factors asked for recommendations in turn. */
+    static final int KNOWN_USERS = 64;
+    /** The count of every eighth of those requests: a body over what a scoring thread writes itself. */
+    static final int LONG_LIST = 200;
 
     private HttpWarmUp() {
     }
@@ -90,11 +96,31 @@ public final class HttpWarmUp {
                 "/v1/users/warm-up-cook/recommendations?count=10",
                 "/v1/users/warm-up-cook/recommendations?count=20&exclude=warm-up-recipe"));
         if (now != null && now.model().numItems() > 0) {
+            paths.addAll(knownUsers(now.model()));
             int items = now.model().numItems();
             for (int j = 0; j < 4; j++) {
                 String item = now.model().itemId((int) ((long) j * items / 4));
                 paths.add("/v1/items/" + URLEncoder.encode(item, StandardCharsets.UTF_8)
                         .replace("+", "%20") + "/similar?count=10");
+            }
+        }
+        return paths;
+    }
+
+    /**
+     * Recommendations for up to {@value #KNOWN_USERS} users with factors, spread over the user
+     * index: the path real traffic takes most (scored in batches, answered from a scoring thread),
+     * every eighth with a list long enough that its body is written from an HTTP thread instead.
+     */
+    static List<String> knownUsers(ServingModel model) {
+        List<String> paths = new ArrayList<>();
+        int users = model.trainedUsers();
+        for (int j = 0; j < KNOWN_USERS && users > 0; j++) {
+            int user = (int) ((long) j * users / KNOWN_USERS);
+            String id = model.userId(user);
+            if (model.hasFactors(user) && id != null) {
+                paths.add("/v1/users/" + URLEncoder.encode(id, StandardCharsets.UTF_8).replace("+", "%20")
+                        + "/recommendations?count=" + (j % 8 == 7 ? LONG_LIST : 10));
             }
         }
         return paths;

@@ -276,6 +276,11 @@ public final class ServingModel {
         return users.indexOf(userId);
     }
 
+    /** The external id of a user index, or null where the index is unused or out of range. */
+    public String userId(int user) {
+        return user >= 0 && user < users.indexSpace() ? users.id(user) : null;
+    }
+
     /** Size of the user index space the model was trained on: P, b_u and Z have this many rows. */
     public int trainedUsers() {
         return trainedUsers;

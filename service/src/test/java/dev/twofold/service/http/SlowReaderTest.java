@@ -20,9 +20,11 @@ import java.nio.channels.SocketChannel;
 import java.nio.charset.StandardCharsets;
 import java.time.Duration;
 import java.util.ArrayList;
+import java.util.HashSet;
 import java.util.List;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.ValueSource;
 
@@ -65,6 +67,26 @@ class SlowReaderTest {
         for (int j = 0; j < want.length; j++) {
             assertEquals(model.itemId(want[j]), items.get(j).path("item").asText(), "rank " + j);
         }
+    }
+
+    @Test
+    void the_warm_up_asks_for_users_of_the_model_in_small_and_large_answers() {
+        List<String> paths = HttpWarmUp.knownUsers(model);
+        assertEquals(HttpWarmUp.KNOWN_USERS, paths.size(), "the model has " + model.trainedUsers() + " users");
+        assertEquals(paths.size(), new HashSet<>(paths).size(), "distinct users: " + paths);
+        int large = 0;
+        for (String path : paths) {
+            String user = path.substring("/v1/users/".length(), path.indexOf("/recommendations"));
+            assertTrue(model.hasFactors(model.userIndex(user)), path);
+            HttpResponse<String> response = api.get(path);
+            assertEquals(200, response.statusCode(), path + ": " + response.body());
+            assertEquals("model", ApiClient.json(response).path("strategy").asText(), path);
+            if (response.body().length() > HttpApi.INLINE_BODY_BYTES) {
+                large++;
+                assertTrue(path.endsWith("count=" + HttpWarmUp.LONG_LIST), path);
+            }
+        }
+        assertEquals(HttpWarmUp.KNOWN_USERS / 8, large, "answers written from an HTTP thread");
     }
 
     @ParameterizedTest
