@@ -28,6 +28,7 @@ import java.util.Map;
 import java.util.Optional;
 import java.util.concurrent.CompletableFuture;
 import java.util.function.Consumer;
+import java.util.function.Function;
 import java.util.function.Supplier;
 import org.eclipse.jetty.server.handler.GracefulHandler;
 import org.slf4j.Logger;
@@ -189,12 +190,7 @@ public final class HttpApi {
         }
     }
 
-    /**
-     * Scores the user's items on the engine's scoring threads without holding an HTTP thread, and
-     * answers from the scoring thread when the body is small enough to go into the response
-     * buffer ({@link #INLINE_BODY_BYTES}); a larger body is written from an HTTP thread, so a
-     * client that reads slowly can never hold up the scoring of other requests.
-     */
+    /** Scores the user's items on the engine's scoring threads and answers from there ({@link #answerLater}). */
     private void recommendations(Context ctx) {
         String user = RequestInput.id("user", ctx.pathParam("user"));
         int count = RequestInput.count(ctx);
@@ -202,13 +198,11 @@ public final class HttpApi {
         LiveModel now = requireLive();
         ServingModel m = now.model();
         UserVector vector = now.user(user);
-        Map<String, String> logContext = MDC.getCopyOfContextMap();
-        CompletableFuture<Void> answered = ranker.recommendLater(m, vector, count, exclude).thenCompose(rec -> {
-            restore(logContext);
+        answerLater(ctx, ranker.recommendLater(m, vector, count, exclude), rec -> {
             if (observer != ServingObserver.NONE) {
                 observer.recommended(rec.strategy(), now.fresh().get(user) != null);
             }
-            byte[] body = JsonOutput.bytes(json -> {
+            return JsonOutput.bytes(json -> {
                 json.writeStartObject();
                 json.writeStringField("user", user);
                 json.writeNumberField("model", m.id());
@@ -216,14 +210,49 @@ public final class HttpApi {
                 writeItems(json, m, rec.items(), rec.scores());
                 json.writeEndObject();
             });
+        });
+    }
+
+    /** Scores the item's neighbours on the engine's scoring threads and answers from there ({@link #answerLater}). */
+    private void similar(Context ctx) {
+        String itemId = RequestInput.id("item", ctx.pathParam("item"));
+        int count = RequestInput.count(ctx);
+        ServingModel m = requireLive().model();
+        int item = m.itemIndex(itemId);
+        if (item < 0) {
+            throw new ProblemException(ProblemType.NOT_FOUND, "item '" + RequestInput.shorten(itemId)
+                    + "' is not in model " + m.id() + " (it had no ratings when the model was trained)");
+        }
+        answerLater(ctx, ranker.similarLater(m, item, count, List.of()), similar -> JsonOutput.bytes(json -> {
+            json.writeStartObject();
+            json.writeStringField("item", itemId);
+            json.writeNumberField("model", m.id());
+            writeItems(json, m, similar.items(), similar.scores());
+            json.writeEndObject();
+        }));
+    }
+
+    /**
+     * Answers 200 with the JSON body {@code body} makes of {@code scored}'s result, without holding
+     * an HTTP thread while the scoring threads work: the body is made on the scoring thread that
+     * completes {@code scored} and written there when it fits the response buffer ({@link
+     * #INLINE_BODY_BYTES}); a larger body is written from an HTTP thread, so a client that reads
+     * slowly can never hold up the scoring of other requests. The request's logging context goes
+     * with it.
+     */
+    private <T> void answerLater(Context ctx, CompletableFuture<T> scored, Function<T, byte[]> body) {
+        Map<String, String> logContext = MDC.getCopyOfContextMap();
+        CompletableFuture<Void> answered = scored.thenCompose(result -> {
+            restore(logContext);
+            byte[] bytes = body.apply(result);
             ctx.status(200).contentType(JsonOutput.JSON);
-            if (body.length <= INLINE_BODY_BYTES) {
-                JsonOutput.write(ctx, body);
+            if (bytes.length <= INLINE_BODY_BYTES) {
+                JsonOutput.write(ctx, bytes);
                 return DONE;
             }
             return CompletableFuture.runAsync(() -> {
                 restore(logContext);
-                JsonOutput.write(ctx, body);
+                JsonOutput.write(ctx, bytes);
             }, app.jettyServer().server().getThreadPool());
         });
         ctx.future(() -> answered);
@@ -237,25 +266,6 @@ public final class HttpApi {
         if (logContext != null) {
             MDC.setContextMap(logContext);
         }
-    }
-
-    private void similar(Context ctx) {
-        String itemId = RequestInput.id("item", ctx.pathParam("item"));
-        int count = RequestInput.count(ctx);
-        ServingModel m = requireLive().model();
-        int item = m.itemIndex(itemId);
-        if (item < 0) {
-            throw new ProblemException(ProblemType.NOT_FOUND, "item '" + RequestInput.shorten(itemId)
-                    + "' is not in model " + m.id() + " (it had no ratings when the model was trained)");
-        }
-        Ranked similar = ranker.similar(m, item, count, List.of());
-        JsonOutput.send(ctx, 200, JsonOutput.JSON, json -> {
-            json.writeStartObject();
-            json.writeStringField("item", itemId);
-            json.writeNumberField("model", m.id());
-            writeItems(json, m, similar.items(), similar.scores());
-            json.writeEndObject();
-        });
     }
 
     private static void writeItems(JsonGenerator json, ServingModel m, int[] items, float[] scores) throws IOException {

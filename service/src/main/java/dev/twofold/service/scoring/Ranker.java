@@ -86,11 +86,12 @@ public final class Ranker {
 
     /**
      * The {@code count} items most similar to serving item {@code item} by cosine of their factor
-     * vectors, best first, leaving out the item itself and the {@code exclude} ids.
+     * vectors, best first, leaving out the item itself and the {@code exclude} ids. Does not block:
+     * the future completes on a scoring thread (see {@link #recommendLater}).
      */
-    public Ranked similar(ServingModel model, int item, int count, List<String> exclude) {
+    public CompletableFuture<Ranked> similarLater(ServingModel model, int item, int count, List<String> exclude) {
         int[] excluded = indices(model, exclude);
-        return engine.similar(model, item, count, excluded, 0, excluded.length);
+        return engine.similarLater(model, item, count, excluded, 0, excluded.length);
     }
 
     private static Recommendation rankByPopularity(ServingModel model, int count, int[] skip, int skipFrom,

@@ -134,10 +134,16 @@ public final class ScoringEngine {
      * with all-zero factors have similarity 0.
      */
     public Ranked similar(ServingModel model, int item, int count, int[] skip, int skipFrom, int skipTo) {
+        return await(similarLater(model, item, count, skip, skipFrom, skipTo));
+    }
+
+    /** {@link #similar} without blocking, on the terms of {@link #rankLater}. */
+    public CompletableFuture<Ranked> similarLater(ServingModel model, int item, int count, int[] skip, int skipFrom,
+            int skipTo) {
         Job job = new Job(model, model.itemFactors(), item * model.rank(), model.inverseNorms()[item], true, item,
                 count, skip, skipFrom, skipTo);
         submit(job);
-        return await(job.result);
+        return job.result;
     }
 
     /**

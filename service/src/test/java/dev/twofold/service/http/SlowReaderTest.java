@@ -26,11 +26,12 @@ import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
+import org.junit.jupiter.params.provider.CsvSource;
 import org.junit.jupiter.params.provider.ValueSource;
 
 /**
- * Recommendations are answered from the scoring threads when the body is small and from an HTTP
- * thread when it is large; either way the answer is the ranker's, and a client that sends request
+ * Recommendations and similar items are answered from the scoring threads when the body is small
+ * and from an HTTP thread when it is large; either way the answer is the ranker's, and a client that sends request
  * after request without reading the answers holds up nobody else.
  */
 class SlowReaderTest {
@@ -69,6 +70,22 @@ class SlowReaderTest {
         }
     }
 
+    @ParameterizedTest
+    @ValueSource(ints = {10, 1000})
+    void small_and_large_similar_lists_match_the_engine(int count) {
+        int item = 17;
+        HttpResponse<String> response = api.get("/v1/items/" + model.itemId(item) + "/similar?count=" + count);
+        assertEquals(200, response.statusCode(), response.body());
+        assertEquals(count > 10, response.body().length() > HttpApi.INLINE_BODY_BYTES,
+                "count " + count + " makes a body of " + response.body().length() + " bytes");
+        JsonNode items = ApiClient.json(response).path("items");
+        int[] want = new Ranker().engine().similar(model, item, count, new int[0], 0, 0).items();
+        assertEquals(want.length, items.size());
+        for (int j = 0; j < want.length; j++) {
+            assertEquals(model.itemId(want[j]), items.get(j).path("item").asText(), "rank " + j);
+        }
+    }
+
     @Test
     void the_warm_up_asks_for_users_of_the_model_in_small_and_large_answers() {
         List<String> paths = HttpWarmUp.knownUsers(model);
@@ -90,12 +107,12 @@ class SlowReaderTest {
     }
 
     @ParameterizedTest
-    @ValueSource(ints = {10, 1000})
-    void clients_that_never_read_their_answers_hold_up_nobody_else(int count) throws Exception {
+    @CsvSource({"recommendations, 10", "recommendations, 1000", "similar, 10", "similar, 1000"})
+    void clients_that_never_read_their_answers_hold_up_nobody_else(String kind, int count) throws Exception {
         List<SocketChannel> stalled = new ArrayList<>();
         try {
             for (int c = 0; c < 4; c++) {
-                stalled.add(stallOne(count));
+                stalled.add(stallOne(kind, count));
             }
             assertTimeoutPreemptively(Duration.ofSeconds(20), () -> {
                 for (int u = 0; u < 20; u++) {
@@ -111,11 +128,11 @@ class SlowReaderTest {
     }
 
     /**
-     * A connection with a small receive window that sends recommendation requests back to back
-     * and never reads, until the server has stopped reading them for half a second: its answers
+     * A connection with a small receive window that sends requests of {@code kind}
+     * (recommendations or similar items) back to back and never reads, until the server has stopped reading them for half a second: its answers
      * fill the socket buffers and the server is stuck on this connection (or 15 s went by).
      */
-    private static SocketChannel stallOne(int count) throws IOException, InterruptedException {
+    private static SocketChannel stallOne(String kind, int count) throws IOException, InterruptedException {
         SocketChannel channel = SocketChannel.open();
         channel.setOption(StandardSocketOptions.SO_RCVBUF, 4096);
         channel.connect(new InetSocketAddress("127.0.0.1", port));
@@ -125,8 +142,11 @@ class SlowReaderTest {
         ByteBuffer request = ByteBuffer.allocate(0);
         for (int r = 0; System.nanoTime() < deadline; ) {
             if (!request.hasRemaining()) {
-                request = ByteBuffer.wrap(("GET /v1/users/cook-" + (r++ % 300) + "/recommendations?count=" + count
-                        + " HTTP/1.1\r\nHost: 127.0.0.1\r\n\r\n").getBytes(StandardCharsets.US_ASCII));
+                String path = kind.equals("similar")
+                        ? "/v1/items/" + model.itemId(r++ % model.numItems()) + "/similar?count=" + count
+                        : "/v1/users/cook-" + (r++ % 300) + "/recommendations?count=" + count;
+                request = ByteBuffer.wrap(("GET " + path + " HTTP/1.1\r\nHost: 127.0.0.1\r\n\r\n")
+                        .getBytes(StandardCharsets.US_ASCII));
             }
             if (channel.write(request) > 0) {
                 stuckSince = 0;
