@@ -35,7 +35,9 @@ import java.util.regex.Pattern;
  * </pre>
  * Defaults: 100,000 users, 20,000 items, rank 64, 10 s per run, 32 connections, wrk with 2
  * threads, 5 rounds alternating bare and service after a {@value #WARMUP_SECONDS} s warm-up of each; the median ratio of
- * the rounds is the figure (other work on a shared machine moves single runs a lot).
+ * the rounds is the figure (other work on a shared machine moves single runs a lot). Each run also
+ * reports the CPU steal during it (time the hypervisor gave other guests, from /proc/stat): on a
+ * shared VM it explains much of how far the same build's figures move between runs.
  */
 public final class ServingBenchmark {
 
@@ -43,10 +45,13 @@ public final class ServingBenchmark {
     private static final int RATINGS_PER_USER = 20;
     /**
      * Warm-up of each server before the rounds. The service compiles its scoring kernel and, with
-     * its default 3 s self-warm-up, its HTTP path before it takes traffic, yet under load it still
-     * reaches a steady rate only after some 60-100 s here (docs/benchmarks.md).
+     * its default self-warm-up, its HTTP path before it takes traffic, yet under this load the JIT
+     * goes on compiling (and recompiling after deoptimisations) for some 100 s: JFR's compiler
+     * statistics show about a core's worth of compiling through the first 30 s of load, and with a
+     * 30 s warm-up the first rounds' p99 was still 2-3 ms above the later ones' (docs/benchmarks.md).
+     * The rounds are meant to show the steady state; the cold start is measured separately there.
      */
-    private static final int WARMUP_SECONDS = 30;
+    private static final int WARMUP_SECONDS = 90;
     private static final String WRK = "/usr/bin/wrk";
     /** The benchmark's own key, held in the service's key ring only (no database here). */
     private static final String KEY = "tf_serving-benchmark-key";
@@ -101,15 +106,15 @@ public final class ServingBenchmark {
                 Result b = wrk(bareUrl, bareScript, seconds, connections);
                 Result s = wrk(serviceUrl, script, seconds, connections);
                 ratios.add(s.requestsPerSecond / b.requestsPerSecond);
-                rows.add(String.format(Locale.ROOT, "| %d | %,.0f | %.2f | %,.0f | %.2f | %.2f | %.1f%% | %s |", round,
-                        b.requestsPerSecond, b.p99Millis, s.requestsPerSecond, s.p50Millis, s.p99Millis,
+                rows.add(String.format(Locale.ROOT, "| %d | %,.0f | %.2f | %,.0f | %.2f | %.2f | %.1f%% | %s | %.1f / %.1f %% |",
+                        round, b.requestsPerSecond, b.p99Millis, s.requestsPerSecond, s.p50Millis, s.p99Millis,
                         100 * s.requestsPerSecond / b.requestsPerSecond, s.errors == 0 && b.errors == 0 ? "0"
-                                : b.errors + " / " + s.errors));
+                                : b.errors + " / " + s.errors, b.stealPercent, s.stealPercent));
             }
             System.out.println();
             System.out.println("| round | bare req/s | bare p99 ms | service req/s | service p50 ms | service p99 ms"
-                    + " | ratio | errors |");
-            System.out.println("|---|---|---|---|---|---|---|---|");
+                    + " | ratio | errors | CPU steal (bare / service) |");
+            System.out.println("|---|---|---|---|---|---|---|---|---|");
             rows.forEach(System.out::println);
             ratios.sort(null);
             System.out.printf(Locale.ROOT, "%nmedian ratio %.1f%%; load average after: %s%n",
@@ -132,11 +137,41 @@ public final class ServingBenchmark {
                 + "end\n";
     }
 
-    record Result(double requestsPerSecond, double p50Millis, double p99Millis, long errors) {
+    /**
+     * @param stealPercent share of the machine's CPU time the hypervisor gave to other guests
+     *                     during the run (/proc/stat), NaN where unknown: on a shared VM the same
+     *                     build's figures move with it
+     */
+    record Result(double requestsPerSecond, double p50Millis, double p99Millis, long errors, double stealPercent) {
+    }
+
+    /** The machine's CPU time counters of the /proc/stat "cpu" line (jiffies): all of them, and steal. */
+    record CpuTimes(long total, long steal) {
+
+        static CpuTimes now() {
+            try {
+                String[] f = Files.readAllLines(Path.of("/proc/stat")).get(0).trim().split("\\s+");
+                long total = 0;
+                // user nice system idle iowait irq softirq steal (guest time is inside user)
+                for (int j = 1; j <= 8 && j < f.length; j++) {
+                    total += Long.parseLong(f[j]);
+                }
+                return new CpuTimes(total, f.length > 8 ? Long.parseLong(f[8]) : 0);
+            } catch (IOException | RuntimeException e) {
+                return new CpuTimes(0, 0); // not Linux: steal unknown
+            }
+        }
+
+        /** Steal as a percentage of the CPU time since {@code before}; NaN when nothing was counted. */
+        double stealPercentSince(CpuTimes before) {
+            long spent = total - before.total;
+            return spent > 0 ? 100.0 * (steal - before.steal) / spent : Double.NaN;
+        }
     }
 
     private static Result wrk(String url, Path script, int seconds, int connections) throws IOException,
             InterruptedException {
+        CpuTimes before = CpuTimes.now();
         Process p = new ProcessBuilder(WRK, "-t2", "-c" + connections, "-d" + seconds + "s", "--latency",
                 "--timeout", "5s", "-s", script.toString(), url).redirectErrorStream(true).start();
         String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
@@ -156,7 +191,7 @@ public final class ServingBenchmark {
                 errorCount += Long.parseLong(socket.group(g));
             }
         }
-        return new Result(rps, p50, p99, errorCount);
+        return new Result(rps, p50, p99, errorCount, CpuTimes.now().stealPercentSince(before));
     }
 
     private static double number(String text, String regex) {
