@@ -4,6 +4,7 @@ import dev.twofold.db.access.ApiKeys;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.service.access.KeyFollower;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.fresh.Intake;
 import dev.twofold.service.fresh.LiveModel;
@@ -230,7 +231,8 @@ public final class Service implements AutoCloseable {
         }
         long start = System.nanoTime();
         try {
-            long answered = HttpWarmUp.run(live::current, ranker, this::useHttpThreads, settings.warmUp());
+            long answered = HttpWarmUp.run(live::current, ranker, this::useHttpThreads, settings.warmUp(),
+                    key -> KeyRing.only(key, "warm-up", KeyRole.READ));
             LOG.info("HTTP path warmed with {} requests to a throwaway loopback server in {} ms", answered,
                     (System.nanoTime() - start) / 1_000_000);
         } catch (InterruptedException e) {

@@ -99,7 +99,8 @@ class ServiceTest {
     void the_warm_up_sends_requests_to_a_throwaway_server_that_leaves_nothing_behind() throws Exception {
         // the warm-up answers requests (503s here: no model) ...
         assertTrue(dev.twofold.service.http.HttpWarmUp.run(() -> null, new dev.twofold.service.scoring.Ranker(),
-                config -> { }, Duration.ofMillis(500)) > 0);
+                config -> { }, Duration.ofMillis(500),
+                key -> dev.twofold.service.access.KeyRing.only(key, "warm-up", dev.twofold.db.access.KeyRole.READ)) > 0);
         // ... and a service that warms up counts none of them and serves as usual afterwards
         try (Service service = new Service(local().withWarmUp(Duration.ofSeconds(1)))) {
             service.install(KitchenModel.build());

@@ -69,6 +69,16 @@ public final class KeyRing implements AccessPolicy {
         this.retryAfterSeconds = retryAfterSeconds;
     }
 
+    /**
+     * A ring that admits only {@code key}, with role {@code role}, under the name {@code name}: for
+     * a throwaway server that must check keys the way the real one does.
+     */
+    public static KeyRing only(String key, String name, KeyRole role) {
+        KeyRing ring = new KeyRing(1);
+        ring.replace(List.of(new ApiKeys.LiveKey(0, name, role, ApiKeys.hash(key))));
+        return ring;
+    }
+
     /** Tells {@code listener} of every refused request (on the request thread; it must be quick). */
     public void onRefusal(Consumer<Refusal> listener) {
         this.refusals = listener;

@@ -11,19 +11,18 @@ import java.net.http.HttpClient;
 import java.net.http.HttpRequest;
 import java.net.http.HttpResponse;
 import java.nio.charset.StandardCharsets;
-import java.security.MessageDigest;
 import java.security.SecureRandom;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HexFormat;
 import java.util.List;
-import java.util.Map;
 import java.util.concurrent.Callable;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicLong;
 import java.util.function.Consumer;
+import java.util.function.Function;
 import java.util.function.Supplier;
 
 /**
@@ -37,7 +36,7 @@ import java.util.function.Supplier;
  * <p>The requests go to a throwaway server of the same routes on an ephemeral 127.0.0.1 port,
  * stopped before the real one binds: nothing reaches the real metrics or request log, no write
  * route can store anything (the throwaway server has no database), and its {@code /v1} routes
- * admit only a random one-off key held in memory for the warm-up. Only reads are sent:
+ * admit only a random one-off key held in memory for the warm-up, checked like real keys. Only reads are sent:
  * {@code /health/live}, {@code /health/ready}, recommendations for users of the model (most of the
  * requests: the path real traffic takes) and for made-up users (popularity, or 503 without a
  * model), similar items of the model's items, and a request without a key (401).
@@ -60,24 +59,21 @@ public final class HttpWarmUp {
      * sends it requests for {@code budget} from {@value #CLIENTS} threads and stops it. Returns the
      * number of requests answered (any status).
      *
-     * @param server configures the throwaway server's threads like the real one's
+     * @param server  configures the throwaway server's threads like the real one's
+     * @param onlyKey the access policy that admits only the given one-off key, checked the way the
+     *                real server checks keys (the service passes a one-key {@code KeyRing}), so the
+     *                key check is compiled too
      */
     public static long run(Supplier<LiveModel> live, Ranker ranker,
-            Consumer<JavalinConfig> server, Duration budget) throws InterruptedException {
+            Consumer<JavalinConfig> server, Duration budget, Function<String, AccessPolicy> onlyKey)
+            throws InterruptedException {
         if (budget.isZero() || budget.isNegative()) {
             return 0;
         }
         byte[] secret = new byte[32];
         new SecureRandom().nextBytes(secret);
         String key = HexFormat.of().formatHex(secret);
-        byte[] expected = ("Bearer " + key).getBytes(StandardCharsets.US_ASCII);
-        AccessPolicy oneKey = (ctx, needed) -> {
-            String presented = ctx.header("Authorization");
-            if (presented == null
-                    || !MessageDigest.isEqual(expected, presented.getBytes(StandardCharsets.US_ASCII))) {
-                throw new ProblemException(ProblemType.UNAUTHORIZED, "warm-up server: no key", Map.of());
-            }
-        };
+        AccessPolicy oneKey = onlyKey.apply(key);
         HttpApi api = new HttpApi(live, ranker, null, null, oneKey, null, ServingObserver.NONE, server,
                 Duration.ZERO, 1);
         int port = api.start("127.0.0.1", 0);

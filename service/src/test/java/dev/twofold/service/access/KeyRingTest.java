@@ -46,6 +46,19 @@ class KeyRingTest {
     }
 
     @Test
+    void a_one_key_ring_admits_that_key_in_its_role_and_nothing_else() {
+        KeyRing ring = KeyRing.only("tf_one-off", "warm-up", KeyRole.READ);
+        assertTrue(ring.ready());
+        assertEquals("warm-up", ring.check("Bearer tf_one-off", Role.READ).name);
+        assertEquals(ProblemType.FORBIDDEN,
+                assertThrows(ProblemException.class, () -> ring.check("Bearer tf_one-off", Role.WRITE)).type());
+        for (String other : new String[] {null, "Bearer tf_one-of", "Bearer tf_one-off2", "tf_one-off"}) {
+            assertEquals(ProblemType.UNAUTHORIZED,
+                    assertThrows(ProblemException.class, () -> ring.check(other, Role.READ)).type(), other);
+        }
+    }
+
+    @Test
     void a_refusal_says_which_key_which_role_and_what_was_needed() {
         ProblemException refused = assertThrows(ProblemException.class,
                 () -> ring(READER).check("Bearer tf_reader", Role.WRITE));
