@@ -1,10 +1,10 @@
 package dev.twofold.service;
 
 import dev.twofold.db.access.ApiKeys;
+import dev.twofold.db.access.KeyRole;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelRegistry;
 import dev.twofold.service.access.KeyFollower;
-import dev.twofold.db.access.KeyRole;
 import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.fresh.Intake;
 import dev.twofold.service.fresh.LiveModel;

@@ -65,7 +65,7 @@ public final class HttpApi {
     private static final String YAML = "application/yaml";
     private static final String ROLLBACK = "rollback";
     /**
-     * Largest recommendation body a scoring thread writes itself. A write that fits the response
+     * Largest body (recommendations, similar items) a scoring thread writes itself. A write that fits the response
      * buffer's aggregation size (set to at least twice this) only copies into the buffer, and the
      * connection flushes it without the writer waiting; count = 10 makes about 600 bytes.
      */

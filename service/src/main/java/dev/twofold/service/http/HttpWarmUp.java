@@ -36,10 +36,10 @@ import java.util.function.Supplier;
  * <p>The requests go to a throwaway server of the same routes on an ephemeral 127.0.0.1 port,
  * stopped before the real one binds: nothing reaches the real metrics or request log, no write
  * route can store anything (the throwaway server has no database), and its {@code /v1} routes
- * admit only a random one-off key held in memory for the warm-up, checked like real keys. Only reads are sent:
- * {@code /health/live}, {@code /health/ready}, recommendations for users of the model (most of the
- * requests: the path real traffic takes) and for made-up users (popularity, or 503 without a
- * model), similar items of the model's items, and a request without a key (401).
+ * admit only a random one-off key held in memory for the warm-up, checked like real keys. Only
+ * reads are sent: {@code /health/live}, {@code /health/ready}, recommendations for users of the
+ * model (most of the requests: the path real traffic takes) and for made-up users (popularity, or
+ * 503 without a model), similar items of the model's items, and a request without a key (401).
  */
 public final class HttpWarmUp {
 
