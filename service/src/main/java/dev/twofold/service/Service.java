@@ -123,9 +123,10 @@ public final class Service implements AutoCloseable {
         this.settings = settings;
         this.ownsOps = ops == null;
         this.ops = ops == null ? new Observability(OpsSettings.defaults(), null, Clock.systemUTC()) : ops;
-        this.live = new LiveModels(settings.freshUsers());
+        this.live = new LiveModels(settings.freshUsers(), settings.listCacheBytes());
         this.live.onInstall((model, swapNanos) -> this.ops.modelInstalled(model.header(), swapNanos));
         this.live.onFoldIn(this.ops.metrics()::foldIn);
+        this.ops.metrics().trackListCache(live.listStats());
         this.watcher = models == null ? null : new ModelWatcher(models, live, settings.modelPollInterval());
         KeyRing ring = access instanceof KeyRing r ? r : null;
         if (ring != null) {
@@ -231,7 +232,10 @@ public final class Service implements AutoCloseable {
         }
         long start = System.nanoTime();
         try {
-            long answered = HttpWarmUp.run(live::current, ranker, this::useHttpThreads, settings.warmUp(),
+            // the warm-up's lookups of kept lists neither count in the metrics nor fill the real lists
+            LiveModel now = live.current();
+            LiveModel apart = now == null ? null : now.apart();
+            long answered = HttpWarmUp.run(() -> apart, ranker, this::useHttpThreads, settings.warmUp(),
                     key -> KeyRing.only(key, "warm-up", KeyRole.READ));
             LOG.info("HTTP path warmed with {} requests to a throwaway loopback server in {} ms", answered,
                     (System.nanoTime() - start) / 1_000_000);

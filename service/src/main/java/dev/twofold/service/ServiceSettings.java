@@ -27,13 +27,18 @@ import java.util.Map;
  *                          make requests share the cores in smaller slices: on 2 cores at 32
  *                          connections, 16 threads served about a fifth more requests a second than
  *                          the framework's 250, at a lower tail latency (docs/benchmarks.md)
+ * @param listCacheMb       MiB of ranked lists kept per model for users asked for again
+ *                          ({@code TWOFOLD_LIST_CACHE_MB}, default {@value #DEFAULT_LIST_CACHE_MB}; 0
+ *                          keeps none): about 3,700 users per MiB, each answered again without
+ *                          scoring every item until the next model or their next write
+ *                          ({@code ListCache})
  * @param warmUp            how long the service sends itself requests on a throwaway loopback server
  *                          before it binds its port ({@code TWOFOLD_WARM_UP_SECONDS}, default
  *                          {@value #DEFAULT_WARM_UP_SECONDS} s; 0 skips it), so the JIT compiles the
  *                          HTTP path while the cores are free (see {@code HttpWarmUp})
  */
 public record ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval,
-        int freshUsers, boolean openAccess, int httpThreads, Duration warmUp) {
+        int freshUsers, boolean openAccess, int httpThreads, Duration warmUp, int listCacheMb) {
 
     public static final String HOST_VARIABLE = "TWOFOLD_HTTP_HOST";
     public static final String PORT_VARIABLE = "TWOFOLD_HTTP_PORT";
@@ -43,6 +48,9 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
     /** Fewest HTTP threads: the acceptor and selector take some, and a few must be left to answer. */
     public static final int MIN_HTTP_THREADS = 8;
     public static final int MAX_HTTP_THREADS = 1_000;
+    public static final String LIST_CACHE_VARIABLE = "TWOFOLD_LIST_CACHE_MB";
+    public static final int DEFAULT_LIST_CACHE_MB = 32;
+    public static final int MAX_LIST_CACHE_MB = 65_536;
     public static final String WARM_UP_VARIABLE = "TWOFOLD_WARM_UP_SECONDS";
     public static final int DEFAULT_WARM_UP_SECONDS = 3;
     public static final int MAX_WARM_UP_SECONDS = 120;
@@ -84,6 +92,10 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
             throw new ConfigurationException(WARM_UP_VARIABLE + "=" + (warmUp == null ? null : warmUp.toSeconds())
                     + " is outside 0.." + MAX_WARM_UP_SECONDS + " seconds");
         }
+        if (listCacheMb < 0 || listCacheMb > MAX_LIST_CACHE_MB) {
+            throw new ConfigurationException(LIST_CACHE_VARIABLE + "=" + listCacheMb + " is outside 0.."
+                    + MAX_LIST_CACHE_MB + " (MiB; 0 keeps no ranked lists)");
+        }
         if (openAccess && !loopback(host)) {
             throw new ConfigurationException(ACCESS_VARIABLE + "=" + ACCESS_OPEN + " admits every request without an API"
                     + " key and is for local development only, so it needs " + HOST_VARIABLE + "=127.0.0.1 (or ::1,"
@@ -95,7 +107,18 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
     /** These settings with a warm-up of {@code warmUp} before the port is bound. */
     public ServiceSettings withWarmUp(Duration warmUp) {
         return new ServiceSettings(host, port, stopTimeout, modelPollInterval, freshUsers, openAccess, httpThreads,
-                warmUp);
+                warmUp, listCacheMb);
+    }
+
+    /** These settings with {@code megabytes} MiB of ranked lists kept per model. */
+    public ServiceSettings withListCache(int megabytes) {
+        return new ServiceSettings(host, port, stopTimeout, modelPollInterval, freshUsers, openAccess, httpThreads,
+                warmUp, megabytes);
+    }
+
+    /** {@link #listCacheMb()} in bytes. */
+    public long listCacheBytes() {
+        return (long) listCacheMb << 20;
     }
 
     /** Settings that check API keys, with the default number of fresh users and no warm-up. */
@@ -105,7 +128,8 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
 
     /** Settings that check API keys, without a warm-up. */
     public ServiceSettings(String host, int port, Duration stopTimeout, Duration modelPollInterval, int freshUsers) {
-        this(host, port, stopTimeout, modelPollInterval, freshUsers, false, defaultHttpThreads(), Duration.ZERO);
+        this(host, port, stopTimeout, modelPollInterval, freshUsers, false, defaultHttpThreads(), Duration.ZERO,
+                DEFAULT_LIST_CACHE_MB);
     }
 
     /** HTTP threads when {@code TWOFOLD_HTTP_THREADS} is not set: 8 per available core, at least 16. */
@@ -115,8 +139,8 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
 
     /**
      * Defaults overridden by {@code TWOFOLD_HTTP_HOST}, {@code TWOFOLD_HTTP_PORT},
-     * {@code TWOFOLD_FRESH_USERS}, {@code TWOFOLD_ACCESS}, {@code TWOFOLD_HTTP_THREADS} and
-     * {@code TWOFOLD_WARM_UP_SECONDS} when set and not blank.
+     * {@code TWOFOLD_FRESH_USERS}, {@code TWOFOLD_ACCESS}, {@code TWOFOLD_HTTP_THREADS},
+     * {@code TWOFOLD_WARM_UP_SECONDS} and {@code TWOFOLD_LIST_CACHE_MB} when set and not blank.
      */
     public static ServiceSettings fromEnvironment(Map<String, String> env) {
         String host = env.get(HOST_VARIABLE);
@@ -125,6 +149,7 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
         String access = env.get(ACCESS_VARIABLE);
         String threads = env.get(THREADS_VARIABLE);
         String warmUp = env.get(WARM_UP_VARIABLE);
+        String lists = env.get(LIST_CACHE_VARIABLE);
         boolean open = false;
         if (access != null && !access.isBlank()) {
             String mode = access.trim();
@@ -148,7 +173,9 @@ public record ServiceSettings(String host, int port, Duration stopTimeout, Durat
                 threads == null || threads.isBlank() ? defaultHttpThreads() : parse(THREADS_VARIABLE, threads.trim(),
                         MIN_HTTP_THREADS + ".." + MAX_HTTP_THREADS),
                 Duration.ofSeconds(warmUp == null || warmUp.isBlank() ? DEFAULT_WARM_UP_SECONDS
-                        : parse(WARM_UP_VARIABLE, warmUp.trim(), "0.." + MAX_WARM_UP_SECONDS + " seconds")));
+                        : parse(WARM_UP_VARIABLE, warmUp.trim(), "0.." + MAX_WARM_UP_SECONDS + " seconds")),
+                lists == null || lists.isBlank() ? DEFAULT_LIST_CACHE_MB : parse(LIST_CACHE_VARIABLE, lists.trim(),
+                        "0.." + MAX_LIST_CACHE_MB + " (MiB)"));
     }
 
     /** Whether {@code host} names this machine only: 127.0.0.0/8, ::1 or localhost (no name lookup). */

@@ -69,6 +69,19 @@ class ServiceSettingsTest {
     }
 
     @Test
+    void the_ranked_list_cache_takes_32_mib_unless_set_and_is_checked() {
+        assertEquals(32, ServiceSettings.fromEnvironment(Map.of()).listCacheMb());
+        assertEquals(32L << 20, ServiceSettings.fromEnvironment(Map.of()).listCacheBytes());
+        assertEquals(0, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_LIST_CACHE_MB", " 0 ")).listCacheMb());
+        for (String value : new String[] {"-1", "65537", "half"}) {
+            ConfigurationException e = assertThrows(ConfigurationException.class,
+                    () -> ServiceSettings.fromEnvironment(Map.of("TWOFOLD_LIST_CACHE_MB", value)));
+            assertTrue(e.getMessage().contains("TWOFOLD_LIST_CACHE_MB") && e.getMessage().contains(value)
+                    && e.getMessage().contains("0..65536"), e.getMessage());
+        }
+    }
+
+    @Test
     void the_warm_up_lasts_three_seconds_unless_set_and_is_checked() {
         assertEquals(Duration.ofSeconds(3), ServiceSettings.fromEnvironment(Map.of()).warmUp());
         assertEquals(Duration.ZERO, ServiceSettings.fromEnvironment(Map.of("TWOFOLD_WARM_UP_SECONDS", "0")).warmUp());

@@ -68,7 +68,7 @@ class ServiceTest {
     void the_http_server_runs_on_a_fixed_pool_of_the_configured_size_and_answers_more_connections_than_threads()
             throws Exception {
         ServiceSettings eight = new ServiceSettings("127.0.0.1", 0, STOP_TIMEOUT, Duration.ofSeconds(2),
-                ServiceSettings.DEFAULT_FRESH_USERS, true, ServiceSettings.MIN_HTTP_THREADS, Duration.ZERO);
+                ServiceSettings.DEFAULT_FRESH_USERS, true, ServiceSettings.MIN_HTTP_THREADS, Duration.ZERO, 0);
         try (Service service = new Service(eight)) {
             int port = service.start();
             service.install(KitchenModel.build());
@@ -110,6 +110,9 @@ class ServiceTest {
             assertFalse(metrics.contains("/recommendations") || metrics.contains("/similar"),
                     "warm-up requests were counted:\n" + metrics);
             assertFalse(metrics.contains("unauthorized"), "the warm-up's keyless request was counted as a refusal");
+            assertTrue(metrics.contains("twofold_list_cache_lookups_total{outcome=\"hit\"} 0.0")
+                    && metrics.contains("twofold_list_cache_lookups_total{outcome=\"miss\"} 0.0"),
+                    "the warm-up's kept-list lookups were counted:\n" + metrics);
             assertTrue(Thread.getAllStackTraces().keySet().stream()
                     .noneMatch(t -> t.isAlive() && t.getName().startsWith("twofold-warm-up")));
             assertEquals(200, api.get("/v1/users/cy/recommendations").statusCode());

@@ -2,6 +2,7 @@ package dev.twofold.service.fresh;
 
 import dev.twofold.db.snapshot.UserHistory;
 import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.scoring.ListCache;
 import dev.twofold.trainer.fit.FoldIn;
 import java.time.Clock;
 import java.time.Duration;
@@ -41,6 +42,8 @@ public final class LiveModels {
     private final Object writes = new Object();
     private final Object installs = new Object();
     private final int capacity;
+    private final long listBytes;
+    private final ListCache.Stats listStats = new ListCache.Stats();
     private final Clock clock;
 
     /** Told after every swap: the model now answering and how long the swap took (for metrics). */
@@ -62,17 +65,34 @@ public final class LiveModels {
         foldInListener = listener == null ? users -> { } : listener;
     }
 
-    /** @param capacity most users kept folded in per model */
+    /** @param capacity most users kept folded in per model; no ranked lists are kept */
     public LiveModels(int capacity) {
-        this(capacity, Clock.systemUTC());
+        this(capacity, 0, Clock.systemUTC());
     }
 
-    LiveModels(int capacity, Clock clock) {
+    /**
+     * @param capacity  most users kept folded in per model
+     * @param listBytes most bytes of ranked lists kept per model ({@link ListCache}); 0 keeps none
+     */
+    public LiveModels(int capacity, long listBytes) {
+        this(capacity, listBytes, Clock.systemUTC());
+    }
+
+    LiveModels(int capacity, long listBytes, Clock clock) {
         if (capacity < 0) {
             throw new IllegalArgumentException("fresh user capacity " + capacity + " must be >= 0");
         }
+        if (listBytes < 0) {
+            throw new IllegalArgumentException("ranked list budget " + listBytes + " bytes must be >= 0");
+        }
         this.capacity = capacity;
+        this.listBytes = listBytes;
         this.clock = clock;
+    }
+
+    /** Lookups of the kept ranked lists of every model so far. */
+    public ListCache.Stats listStats() {
+        return listStats;
     }
 
     /** What requests answer from now, or null before the first model. */
@@ -99,7 +119,7 @@ public final class LiveModels {
             LiveModel old = current.get();
             if (old == null) {
                 synchronized (writes) {
-                    current.set(new LiveModel(next, new FreshUsers(capacity), new ConcurrentHashMap<>()));
+                    current.set(new LiveModel(next, new FreshUsers(capacity), new ConcurrentHashMap<>(), lists(next)));
                 }
                 installListener.installed(next, System.nanoTime() - started);
                 return Optional.empty();
@@ -129,7 +149,7 @@ public final class LiveModels {
                 for (String id : erased.keySet()) {
                     rebased.remove(id);
                 }
-                current.set(new LiveModel(next, rebased, erased));
+                current.set(new LiveModel(next, rebased, erased, lists(next)));
             }
             installListener.installed(next, System.nanoTime() - started);
             return Optional.of(old.model());
@@ -177,8 +197,8 @@ public final class LiveModels {
     }
 
     /**
-     * Drops a user whose data was erased (by this or another process): their fresh state goes, and
-     * until the next model load they are served as someone nobody knows.
+     * Drops a user whose data was erased (by this or another process): their fresh state and kept
+     * list go, and until the next model load they are served as someone nobody knows.
      */
     public void forget(String userId) {
         synchronized (writes) {
@@ -186,8 +206,14 @@ public final class LiveModels {
             if (live != null) {
                 live.fresh().remove(userId);
                 live.erased().put(userId, clock.millis());
+                live.lists().drop(live.model().userIndex(userId));
             }
         }
+    }
+
+    /** An empty cache of ranked lists for {@code model}: every model starts without any. */
+    private ListCache lists(ServingModel model) {
+        return new ListCache(model.userIndexSpace(), listBytes, listStats);
     }
 
     private static FreshUser refold(ServingModel model, FreshUser user, FoldIn.Scratch scratch) {

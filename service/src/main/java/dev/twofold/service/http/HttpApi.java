@@ -12,7 +12,6 @@ import dev.twofold.service.scoring.Predictor;
 import dev.twofold.service.scoring.Ranked;
 import dev.twofold.service.scoring.Ranker;
 import dev.twofold.service.scoring.Recommendation;
-import dev.twofold.service.scoring.UserVector;
 import io.javalin.Javalin;
 import io.javalin.config.JavalinConfig;
 import io.javalin.http.Context;
@@ -190,15 +189,17 @@ public final class HttpApi {
         }
     }
 
-    /** Scores the user's items on the engine's scoring threads and answers from there ({@link #answerLater}). */
+    /**
+     * Answers from the user's kept list when there is one ({@link LiveModel#recommendLater}), else
+     * scores the user's items on the engine's scoring threads and answers from there ({@link #answerLater}).
+     */
     private void recommendations(Context ctx) {
         String user = RequestInput.id("user", ctx.pathParam("user"));
         int count = RequestInput.count(ctx);
         List<String> exclude = RequestInput.idList(ctx, "exclude");
         LiveModel now = requireLive();
         ServingModel m = now.model();
-        UserVector vector = now.user(user);
-        answerLater(ctx, ranker.recommendLater(m, vector, count, exclude), rec -> {
+        answerLater(ctx, now.recommendLater(ranker, user, count, exclude), rec -> {
             if (observer != ServingObserver.NONE) {
                 observer.recommended(rec.strategy(), now.fresh().get(user) != null);
             }

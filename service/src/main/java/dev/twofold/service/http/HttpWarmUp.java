@@ -2,6 +2,7 @@ package dev.twofold.service.http;
 
 import dev.twofold.service.fresh.LiveModel;
 import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.scoring.ListCache;
 import dev.twofold.service.scoring.Ranker;
 import io.javalin.config.JavalinConfig;
 import java.io.IOException;
@@ -38,8 +39,9 @@ import java.util.function.Supplier;
  * route can store anything (the throwaway server has no database), and its {@code /v1} routes
  * admit only a random one-off key held in memory for the warm-up, checked like real keys. Only
  * reads are sent: {@code /health/live}, {@code /health/ready}, recommendations for users of the
- * model (most of the requests: the path real traffic takes) and for made-up users (popularity, or
- * 503 without a model), similar items of the model's items, and a request without a key (401).
+ * model (most of the requests: the paths real traffic takes, from a kept list and scored) and for
+ * made-up users (popularity, or 503 without a model), similar items of the model's items, and a
+ * request without a key (401).
  */
 public final class HttpWarmUp {
 
@@ -50,6 +52,8 @@ public final class HttpWarmUp {
     static final int KNOWN_USERS = 64;
     /** The count of every eighth of those requests: a body over what a scoring thread writes itself. */
     static final int LONG_LIST = 200;
+    /** The count of the other odd ones: more than a kept list holds, so it is scored every time. */
+    static final int SCORED_LIST = ListCache.DEPTH + 1;
 
     private HttpWarmUp() {
     }
@@ -105,8 +109,11 @@ public final class HttpWarmUp {
 
     /**
      * Recommendations for up to {@value #KNOWN_USERS} users with factors, spread over the user
-     * index: the path real traffic takes most (scored in batches, answered from a scoring thread),
-     * every eighth with a list long enough that its body is written from an HTTP thread instead.
+     * index: the paths real traffic takes most. Half ask for 10 items: scored once, then answered
+     * from the kept list ({@code ListCache}) on the HTTP thread. Most of the others ask for one
+     * item more than a kept list holds, so they are scored in batches every time and answered
+     * from a scoring thread; every eighth asks for a list long enough that its body is written from
+     * an HTTP thread instead.
      */
     static List<String> knownUsers(ServingModel model) {
         List<String> paths = new ArrayList<>();
@@ -116,7 +123,7 @@ public final class HttpWarmUp {
             String id = model.userId(user);
             if (model.hasFactors(user) && id != null) {
                 paths.add("/v1/users/" + URLEncoder.encode(id, StandardCharsets.UTF_8).replace("+", "%20")
-                        + "/recommendations?count=" + (j % 8 == 7 ? LONG_LIST : 10));
+                        + "/recommendations?count=" + (j % 8 == 7 ? LONG_LIST : j % 2 == 1 ? SCORED_LIST : 10));
             }
         }
         return paths;

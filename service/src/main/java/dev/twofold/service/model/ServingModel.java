@@ -281,6 +281,11 @@ public final class ServingModel {
         return user >= 0 && user < users.indexSpace() ? users.id(user) : null;
     }
 
+    /** Size of the user index space: every {@link #userIndex} is below it. */
+    public int userIndexSpace() {
+        return users.indexSpace();
+    }
+
     /** Size of the user index space the model was trained on: P, b_u and Z have this many rows. */
     public int trainedUsers() {
         return trainedUsers;

@@ -3,7 +3,9 @@ package dev.twofold.service.ops;
 import com.zaxxer.hikari.metrics.micrometer.MicrometerMetricsTrackerFactory;
 import dev.twofold.db.connect.Database;
 import dev.twofold.db.registry.ModelHeader;
+import dev.twofold.service.scoring.ListCache;
 import io.micrometer.core.instrument.Counter;
+import io.micrometer.core.instrument.FunctionCounter;
 import io.micrometer.core.instrument.Gauge;
 import io.micrometer.core.instrument.MeterRegistry;
 import io.micrometer.core.instrument.Timer;
@@ -73,6 +75,9 @@ public final class ServiceMetrics implements AutoCloseable {
     static final String SWAPS = "twofold.model.swap";
     static final String AUTH_REFUSALS = "twofold.auth.refusals";
     static final String DATABASE_UP = "twofold.database.up";
+    static final String LIST_CACHE = "twofold.list.cache.lookups";
+    private static final String LIST_CACHE_DESCRIPTION = "Recommendation requests the kept ranked lists could answer:"
+            + " hit (answered from a kept list) or miss (scored, then kept)";
 
     private final PrometheusMeterRegistry registry = new PrometheusMeterRegistry(PrometheusConfig.DEFAULT);
     private final Clock clock;
@@ -162,6 +167,22 @@ public final class ServiceMetrics implements AutoCloseable {
         Gauge.builder(DATABASE_UP, reachable, r -> r.getAsBoolean() ? 1 : 0)
                 .description("1 while the service's database answers, 0 while it cannot be reached")
                 .strongReference(true)
+                .register(registry);
+    }
+
+    /**
+     * Follows the kept ranked lists ({@code twofold_list_cache_lookups_total}, by {@code outcome}):
+     * {@code hit}, answered from a kept list; {@code miss}, scored and then kept. Requests the cache
+     * cannot answer (folded-in, erased or unknown users, long lists) count as neither.
+     */
+    public void trackListCache(ListCache.Stats stats) {
+        FunctionCounter.builder(LIST_CACHE, stats, ListCache.Stats::hits)
+                .description(LIST_CACHE_DESCRIPTION)
+                .tag("outcome", "hit")
+                .register(registry);
+        FunctionCounter.builder(LIST_CACHE, stats, ListCache.Stats::misses)
+                .description(LIST_CACHE_DESCRIPTION)
+                .tag("outcome", "miss")
                 .register(registry);
     }
 

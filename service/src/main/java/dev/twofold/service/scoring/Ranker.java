@@ -73,6 +73,12 @@ public final class Ranker {
         if (!user.hasVector()) {
             return CompletableFuture.completedFuture(rankByPopularity(model, count, skip, skipFrom, skipTo));
         }
+        return score(model, user, count, skip, skipFrom, skipTo);
+    }
+
+    /** The engine's best {@code count} for a user with a vector, as predicted ratings on the scale. */
+    private CompletableFuture<Recommendation> score(ServingModel model, UserVector user, int count, int[] skip,
+            int skipFrom, int skipTo) {
         double base = (double) model.globalMean() + user.bias();
         return engine.rankLater(model, user.factors(), user.offset(), count, skip, skipFrom, skipTo)
                 .thenApply(ranked -> {
@@ -81,6 +87,30 @@ public final class Ranker {
                         scores[j] = model.clampToScale(base + scores[j]);
                     }
                     return new Recommendation(user.strategy(), ranked.items(), scores);
+                });
+    }
+
+    /**
+     * {@link #recommendLater(ServingModel, UserVector, int, List)} for a user the model alone knows
+     * ({@code user} is {@code UserVector.fromModel} of model user index {@code userIndex}), answered
+     * from {@code lists} when it holds the user's list; otherwise scored to {@link ListCache#DEPTH}
+     * items, kept there, and cut to {@code count}. Requests too long for the cache, and users
+     * without a vector, go the usual way.
+     */
+    public CompletableFuture<Recommendation> recommendLater(ServingModel model, UserVector user, int userIndex,
+            int count, List<String> exclude, ListCache lists) {
+        int[] excluded = indices(model, exclude);
+        if (!user.hasVector() || count < 0 || !lists.fits(count, excluded.length)) {
+            return recommendLater(model, user, count, exclude);
+        }
+        Recommendation kept = lists.get(userIndex, user.strategy(), count, excluded);
+        if (kept != null) {
+            return CompletableFuture.completedFuture(kept);
+        }
+        return score(model, user, ListCache.DEPTH, user.rated(), user.ratedFrom(), user.ratedTo())
+                .thenApply(full -> {
+                    lists.put(userIndex, full.items(), full.scores());
+                    return ListCache.cut(full, count, excluded);
                 });
     }
 

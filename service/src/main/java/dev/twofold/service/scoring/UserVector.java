@@ -27,7 +27,11 @@ public record UserVector(Strategy strategy, float[] factors, int offset, float b
      * ratings. An unknown id is served by popularity with nothing rated.
      */
     public static UserVector fromModel(ServingModel model, String userId) {
-        int u = model.userIndex(userId);
+        return fromModel(model, model.userIndex(userId));
+    }
+
+    /** {@link #fromModel(ServingModel, String)} by the model's user index ({@code -1}: unknown). */
+    public static UserVector fromModel(ServingModel model, int u) {
         if (u < 0) {
             return popular(NONE, 0, 0);
         }

@@ -6,6 +6,7 @@ import dev.twofold.service.Service;
 import dev.twofold.service.ServiceSettings;
 import dev.twofold.service.access.KeyRing;
 import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.scoring.ListCache;
 import io.javalin.Javalin;
 import java.io.IOException;
 import java.lang.management.ManagementFactory;
@@ -31,13 +32,19 @@ import java.util.regex.Pattern;
  *
  * <pre>
  * JAVA_OPTS="--add-modules jdk.incubator.vector -Xmx2g" deploy/bench service \
- *     dev.twofold.service.bench.ServingBenchmark [users items rank seconds connections rounds]
+ *     dev.twofold.service.bench.ServingBenchmark [users items rank seconds connections rounds listMiB]
  * </pre>
  * Defaults: 100,000 users, 20,000 items, rank 64, 10 s per run, 32 connections, wrk with 2
  * threads, 5 rounds alternating bare and service after a {@value #WARMUP_SECONDS} s warm-up of each; the median ratio of
  * the rounds is the figure (other work on a shared machine moves single runs a lot). Each run also
  * reports the CPU steal during it (time the hypervisor gave other guests, from /proc/stat): on a
  * shared VM it explains much of how far the same build's figures move between runs.
+ *
+ * <p>{@code listMiB} is the service's budget of kept ranked lists ({@code TWOFOLD_LIST_CACHE_MB},
+ * default {@value ServiceSettings#DEFAULT_LIST_CACHE_MB}): with it, a user asked for again is
+ * answered without scoring; 0 scores every request. Each run reports the share of requests answered
+ * from kept lists. With the defaults every user fits, so after the warm-up nearly every request is
+ * such a repeat; run with 0 to measure the scoring path itself.
  */
 public final class ServingBenchmark {
 
@@ -66,6 +73,7 @@ public final class ServingBenchmark {
         int seconds = args.length > 3 ? Integer.parseInt(args[3]) : 10;
         int connections = args.length > 4 ? Integer.parseInt(args[4]) : 32;
         int rounds = args.length > 5 ? Integer.parseInt(args[5]) : 5;
+        int listMib = args.length > 6 ? Integer.parseInt(args[6]) : ServiceSettings.DEFAULT_LIST_CACHE_MB;
 
         ServingModel model = syntheticModel(users, items, k, SEED);
         Path dir = Files.createTempDirectory("twofold-bench-");
@@ -83,7 +91,8 @@ public final class ServingBenchmark {
         KeyRing keys = new KeyRing(1);
         keys.replace(List.of(new ApiKeys.LiveKey(1, "bench", KeyRole.READ, ApiKeys.hash(KEY))));
         try (Service service = new Service(new ServiceSettings("127.0.0.1", 0, Duration.ofSeconds(5),
-                Duration.ofSeconds(2)).withWarmUp(Duration.ofSeconds(ServiceSettings.DEFAULT_WARM_UP_SECONDS)), keys)) {
+                Duration.ofSeconds(2)).withWarmUp(Duration.ofSeconds(ServiceSettings.DEFAULT_WARM_UP_SECONDS))
+                .withListCache(listMib), keys)) {
             service.install(model);
             int port = service.start();
             String bareUrl = "http://127.0.0.1:" + bare.port();
@@ -97,6 +106,9 @@ public final class ServingBenchmark {
             System.out.printf(Locale.ROOT, "model: %,d users, %,d items, rank %d, %d ratings per user; wrk -t2 -c%d"
                     + " -d%ds; load average before: %s%n", users, items, k, RATINGS_PER_USER, connections, seconds,
                     loadAverage());
+            ListCache.Stats kept = service.live().lists().stats();
+            System.out.printf(Locale.ROOT, "kept ranked lists: %d MiB, room for %,d users%n", listMib,
+                    service.live().lists().slots());
 
             wrk(bareUrl, bareScript, WARMUP_SECONDS, connections);
             wrk(serviceUrl, script, WARMUP_SECONDS, connections);
@@ -104,17 +116,23 @@ public final class ServingBenchmark {
             List<Double> ratios = new ArrayList<>();
             for (int round = 1; round <= rounds; round++) {
                 Result b = wrk(bareUrl, bareScript, seconds, connections);
+                long hits = kept.hits();
+                long misses = kept.misses();
                 Result s = wrk(serviceUrl, script, seconds, connections);
+                long looked = kept.hits() - hits + kept.misses() - misses;
+                double keptShare = looked == 0 ? 0 : 100.0 * (kept.hits() - hits) / looked;
                 ratios.add(s.requestsPerSecond / b.requestsPerSecond);
-                rows.add(String.format(Locale.ROOT, "| %d | %,.0f | %.2f | %,.0f | %.2f | %.2f | %.1f%% | %s | %.1f / %.1f %% |",
+                rows.add(String.format(Locale.ROOT, "| %d | %,.0f | %.2f | %,.0f | %.2f | %.2f | %.1f%% | %.1f%% | %s"
+                        + " | %.1f / %.1f %% |",
                         round, b.requestsPerSecond, b.p99Millis, s.requestsPerSecond, s.p50Millis, s.p99Millis,
+                        keptShare,
                         100 * s.requestsPerSecond / b.requestsPerSecond, s.errors == 0 && b.errors == 0 ? "0"
                                 : b.errors + " / " + s.errors, b.stealPercent, s.stealPercent));
             }
             System.out.println();
             System.out.println("| round | bare req/s | bare p99 ms | service req/s | service p50 ms | service p99 ms"
-                    + " | ratio | errors | CPU steal (bare / service) |");
-            System.out.println("|---|---|---|---|---|---|---|---|---|");
+                    + " | from kept lists | ratio | errors | CPU steal (bare / service) |");
+            System.out.println("|---|---|---|---|---|---|---|---|---|---|");
             rows.forEach(System.out::println);
             ratios.sort(null);
             System.out.printf(Locale.ROOT, "%nmedian ratio %.1f%%; load average after: %s%n",

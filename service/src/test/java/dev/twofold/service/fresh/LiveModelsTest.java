@@ -1,6 +1,7 @@
 package dev.twofold.service.fresh;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertNull;
 import static org.junit.jupiter.api.Assertions.assertSame;
@@ -8,6 +9,8 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import dev.twofold.db.snapshot.UserHistory;
 import dev.twofold.service.model.ServingModel;
+import dev.twofold.service.scoring.Ranker;
+import dev.twofold.service.scoring.Recommendation;
 import dev.twofold.service.scoring.Strategy;
 import dev.twofold.service.scoring.UserVector;
 import dev.twofold.service.testing.KitchenModel;
@@ -15,6 +18,7 @@ import java.time.Clock;
 import java.time.Duration;
 import java.time.Instant;
 import java.time.ZoneOffset;
+import java.util.Arrays;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 
@@ -54,7 +58,7 @@ class LiveModelsTest {
 
     @Test
     void a_folded_user_is_served_from_their_new_vector_with_the_new_item_excluded() {
-        LiveModels live = new LiveModels(10, new TestClock());
+        LiveModels live = new LiveModels(10, 0, new TestClock());
         ServingModel model = KitchenModel.build();
         live.install(model);
         assertEquals(1, live.foldIn(List.of(ana(1f))));
@@ -68,7 +72,7 @@ class LiveModelsTest {
 
     @Test
     void a_later_write_replaces_an_earlier_one_and_an_erased_user_is_forgotten() {
-        LiveModels live = new LiveModels(10, new TestClock());
+        LiveModels live = new LiveModels(10, 0, new TestClock());
         live.install(KitchenModel.build());
         live.foldIn(List.of(ana(1f)));
         FreshUser first = live.current().fresh().get("ana");
@@ -83,7 +87,7 @@ class LiveModelsTest {
     @Test
     void an_erased_user_is_served_as_unknown_until_a_model_loaded_after_the_erasure() {
         TestClock clock = new TestClock();
-        LiveModels live = new LiveModels(10, clock);
+        LiveModels live = new LiveModels(10, 0, clock);
         live.install(KitchenModel.build(1, JANUARY, 1f));
         live.foldIn(List.of(ana(1f)));
         clock.now = Instant.parse("2026-02-01T00:00:00Z");
@@ -102,8 +106,40 @@ class LiveModelsTest {
     }
 
     @Test
+    void a_kept_list_is_never_read_for_a_user_folded_in_or_erased_since_and_a_new_model_keeps_none() {
+        LiveModels live = new LiveModels(10, 1 << 20, new TestClock());
+        ServingModel model = KitchenModel.build();
+        live.install(model);
+        Ranker ranker = new Ranker();
+        List<String> first = ids(model, live.current().recommendLater(ranker, "ana", 10, List.of()).join());
+        assertTrue(first.contains("cake"), "ana has not rated cake in the model: " + first);
+        assertEquals(first, ids(model, live.current().recommendLater(ranker, "ana", 10, List.of()).join()));
+        assertEquals(1, live.listStats().hits(), "asked again: answered from the kept list");
+
+        live.foldIn(List.of(ana(1f)));
+        List<String> folded = ids(model, live.current().recommendLater(ranker, "ana", 10, List.of()).join());
+        assertFalse(folded.contains("cake"), "rated since the model was trained: " + folded);
+        assertEquals(1, live.listStats().hits(), "a folded user is ranked afresh");
+
+        live.forget("ana");
+        assertEquals(Strategy.POPULAR, live.current().recommendLater(ranker, "ana", 10, List.of()).join().strategy());
+        assertEquals(1, live.listStats().hits(), "an erased user is served as unknown");
+
+        live.current().recommendLater(ranker, "ben", 10, List.of()).join();
+        long misses = live.listStats().misses();
+        live.install(KitchenModel.build(2, JANUARY.plus(Duration.ofDays(1)), 1f));
+        live.current().recommendLater(ranker, "ben", 10, List.of()).join();
+        assertEquals(misses + 1, live.listStats().misses(), "the new model has kept nothing yet");
+        assertEquals(1, live.listStats().hits());
+    }
+
+    private static List<String> ids(ServingModel model, Recommendation rec) {
+        return Arrays.stream(rec.items()).mapToObj(model::itemId).toList();
+    }
+
+    @Test
     void beyond_the_capacity_the_user_folded_longest_ago_is_dropped() {
-        LiveModels live = new LiveModels(2, new TestClock());
+        LiveModels live = new LiveModels(2, 0, new TestClock());
         live.install(KitchenModel.build());
         live.foldIn(List.of(newcomer("fay", 6)));
         live.foldIn(List.of(newcomer("gus", 7)));
@@ -119,7 +155,7 @@ class LiveModelsTest {
     @Test
     void a_new_model_keeps_users_written_after_its_snapshot_re_solved_and_drops_those_it_already_learned() {
         TestClock clock = new TestClock();
-        LiveModels live = new LiveModels(10, clock);
+        LiveModels live = new LiveModels(10, 0, clock);
         live.install(KitchenModel.build(1, JANUARY, 1f));
 
         clock.now = Instant.parse("2026-02-01T00:00:00Z");

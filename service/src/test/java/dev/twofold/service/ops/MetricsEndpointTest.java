@@ -125,6 +125,14 @@ class MetricsEndpointTest {
     }
 
     @Test
+    void kept_list_lookups_are_counted_by_outcome() {
+        // only known cooks asked for short lists can be answered from kept lists: newcomers, the
+        // follower (folded in) and the refused requests count as neither
+        assertEquals(sent.keptListHits(), metrics.value("twofold_list_cache_lookups_total", "outcome", "hit"));
+        assertEquals(sent.keptListMisses(), metrics.value("twofold_list_cache_lookups_total", "outcome", "miss"));
+    }
+
+    @Test
     void recommendations_are_counted_by_the_strategy_the_response_carried() {
         assertEquals(sent.modelRecommendations(), metrics.value("twofold_recommendations_total", "strategy", "model"));
         assertEquals(sent.popularRecommendations(), metrics.value("twofold_recommendations_total",

@@ -164,7 +164,8 @@ final class TrainedCommunity implements AutoCloseable {
     }
 
     /**
-     * Real API traffic: recommendations for known cooks (strategy model) and unknown ones
+     * Real API traffic: recommendations for known cooks (strategy model; the last one asked twice, so
+     * the second answer comes from the list kept for them) and unknown ones
      * (popular), predictions, two invalid requests (400), an unknown path (404), a rating written
      * (202, folded in), a new cook who only follows others (served by trust), and two requests the
      * key check refuses (401: no key, a key never issued).
@@ -175,6 +176,9 @@ final class TrainedCommunity implements AutoCloseable {
             assertEquals(200, api.get("/v1/users/" + cook + "/recommendations?count=5").statusCode());
             model++;
         }
+        // the last of them again: answered from the list kept for them the first time
+        assertEquals(200, api.get("/v1/users/" + cooks.get(knownCooks - 1) + "/recommendations?count=5").statusCode());
+        model++;
         int popular = 0;
         for (int j = 0; j < 3; j++) {
             assertEquals(200, api.get("/v1/users/newcomer-" + j + "/recommendations").statusCode());
@@ -201,12 +205,13 @@ final class TrainedCommunity implements AutoCloseable {
         assertEquals(401, api.withKey(null).get("/v1/users/" + cooks.get(0) + "/recommendations").statusCode());
         assertEquals(401, api.withKey("tf_never-issued").get("/v1/users/" + cooks.get(0) + "/recommendations")
                 .statusCode());
-        return new Traffic(model, popular, 1, 1, 2, 1, folded, 1, 1);
+        return new Traffic(model, popular, 1, 1, 2, 1, folded, 1, 1, 1, knownCooks);
     }
 
     /** What {@link #sendTraffic} sent, and how many users the service folded in after the write. */
     record Traffic(int modelRecommendations, int popularRecommendations, int trustRecommendations, int predictions,
-            int badRequests, int notFound, int foldedUsers, int withoutKey, int withUnknownKey) {
+            int badRequests, int notFound, int foldedUsers, int withoutKey, int withUnknownKey, int keptListHits,
+            int keptListMisses) {
 
         int servedRecommendations() {
             return modelRecommendations + popularRecommendations + trustRecommendations;
