@@ -110,15 +110,15 @@ public final class ServingBenchmark {
             System.out.printf(Locale.ROOT, "kept ranked lists: %d MiB, room for %,d users%n", listMib,
                     service.live().lists().slots());
 
-            wrk(bareUrl, bareScript, WARMUP_SECONDS, connections);
-            wrk(serviceUrl, script, WARMUP_SECONDS, connections);
+            wrk(bareUrl, bareScript, WARMUP_SECONDS, connections, 0);
+            wrk(serviceUrl, script, WARMUP_SECONDS, connections, 0);
             List<String> rows = new ArrayList<>();
             List<Double> ratios = new ArrayList<>();
             for (int round = 1; round <= rounds; round++) {
-                Result b = wrk(bareUrl, bareScript, seconds, connections);
+                Result b = wrk(bareUrl, bareScript, seconds, connections, round);
                 long hits = kept.hits();
                 long misses = kept.misses();
-                Result s = wrk(serviceUrl, script, seconds, connections);
+                Result s = wrk(serviceUrl, script, seconds, connections, round);
                 long looked = kept.hits() - hits + kept.misses() - misses;
                 double keptShare = looked == 0 ? 0 : 100.0 * (kept.hits() - hits) / looked;
                 ratios.add(s.requestsPerSecond / b.requestsPerSecond);
@@ -142,9 +142,20 @@ public final class ServingBenchmark {
         }
     }
 
-    /** One user per request, uniformly among all users, ten items each, with the benchmark's key. */
+    /**
+     * One user per request, uniformly among all users, ten items each, with the benchmark's key.
+     * Every wrk thread of every run draws its own sequence (seeded by the run and the thread), so
+     * no round replays the users of the warm-up or of another round.
+     */
     static String luaScript(int users) {
-        return "math.randomseed(" + SEED + ")\n"
+        return "local threads = 0\n"
+                + "setup = function(thread)\n"
+                + "  threads = threads + 1\n"
+                + "  thread:set(\"id\", threads)\n"
+                + "end\n"
+                + "init = function(args)\n"
+                + "  math.randomseed(" + SEED + " + 1000 * tonumber(args[1] or 0) + id)\n"
+                + "end\n"
                 + "wrk.headers[\"Authorization\"] = \"Bearer " + KEY + "\"\n"
                 + "request = function()\n"
                 + "  return wrk.format(\"GET\", \"/v1/users/cook-\" .. math.random(0, " + (users - 1)
@@ -187,11 +198,13 @@ public final class ServingBenchmark {
         }
     }
 
-    private static Result wrk(String url, Path script, int seconds, int connections) throws IOException,
+    /** One wrk run; {@code run} seeds the script's random users (0 for the warm-up, then the round). */
+    private static Result wrk(String url, Path script, int seconds, int connections, int run) throws IOException,
             InterruptedException {
         CpuTimes before = CpuTimes.now();
         Process p = new ProcessBuilder(WRK, "-t2", "-c" + connections, "-d" + seconds + "s", "--latency",
-                "--timeout", "5s", "-s", script.toString(), url).redirectErrorStream(true).start();
+                "--timeout", "5s", "-s", script.toString(), url, "--", Integer.toString(run))
+                .redirectErrorStream(true).start();
         String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
         if (!p.waitFor(seconds + 30L, TimeUnit.SECONDS)) {
             p.destroyForcibly();
