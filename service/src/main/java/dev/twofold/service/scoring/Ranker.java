@@ -19,6 +19,9 @@ import java.util.concurrent.CompletableFuture;
  * <p>Anyone else ({@link Strategy#POPULAR}) gets the model's popularity order, scored μ + b_i, the
  * prediction for a user about whom nothing is known.
  *
+ * <p>A user the model alone knows can be answered from a {@link ListCache} of their list instead:
+ * the same items and scores, without scoring every item again.
+ *
  * <p>Either way the user's rated items and the request's excluded items never appear. Excluded
  * ids the model does not know are ignored. Thread-safe.
  */
