@@ -219,6 +219,8 @@ final class Dashboard {
                 number(json, e.getKey(), e.getValue());
             }
             json.writeEndObject();
+            number(json, "keptListHitsPerSecond", s.keptListHitsPerSecond());
+            number(json, "keptListMissesPerSecond", s.keptListMissesPerSecond());
             json.writeEndObject();
         }
         json.writeEndArray();

@@ -85,6 +85,8 @@ public final class ServiceMetrics implements AutoCloseable {
     private final List<ApiSeries> apiSeries = new CopyOnWriteArrayList<>();
     private final Map<ProblemKey, Counter> problems = new ConcurrentHashMap<>();
     private final Map<String, Counter> strategies = new ConcurrentHashMap<>();
+    /** Lookups of the kept ranked lists, once {@link #trackListCache} was called. */
+    private volatile ListCache.Stats keptLists;
     private final Map<String, Counter> authRefusals = new ConcurrentHashMap<>();
     private final Counter foldIns;
     private final Timer swaps;
@@ -176,6 +178,7 @@ public final class ServiceMetrics implements AutoCloseable {
      * cannot answer (folded-in, erased or unknown users, long lists) count as neither.
      */
     public void trackListCache(ListCache.Stats stats) {
+        keptLists = stats;
         FunctionCounter.builder(LIST_CACHE, stats, ListCache.Stats::hits)
                 .description(LIST_CACHE_DESCRIPTION)
                 .tag("outcome", "hit")
@@ -258,8 +261,8 @@ public final class ServiceMetrics implements AutoCloseable {
 
     /**
      * Running totals of API traffic ({@code /v1} routes) since start, for the dashboard's
-     * sampler: requests by status class, recommendations by strategy, and the latency histogram
-     * summed over every API route.
+     * sampler: requests by status class, recommendations by strategy, lookups of the kept ranked
+     * lists, and the latency histogram summed over every API route.
      */
     TrafficTotals trafficTotals() {
         long requests = 0;
@@ -290,7 +293,9 @@ public final class ServiceMetrics implements AutoCloseable {
         }
         Map<String, Long> byStrategy = new LinkedHashMap<>();
         strategies.forEach((name, counter) -> byStrategy.put(name, (long) counter.count()));
-        return new TrafficTotals(requests, clientErrors, serverErrors, byStrategy,
+        ListCache.Stats kept = keptLists;
+        return new TrafficTotals(requests, clientErrors, serverErrors, byStrategy, kept == null ? 0 : kept.hits(),
+                kept == null ? 0 : kept.misses(),
                 bounds == null ? new double[0] : bounds, cumulative == null ? new long[0] : cumulative);
     }
 

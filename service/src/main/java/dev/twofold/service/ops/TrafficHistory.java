@@ -26,9 +26,12 @@ final class TrafficHistory {
      * API traffic over one interval ending at {@code at}.
      *
      * @param latencyMs p50, p95, p99 in milliseconds ({@link #QUANTILES}); NaN when no request finished
+     * @param keptListHitsPerSecond   recommendation requests answered from kept ranked lists
+     * @param keptListMissesPerSecond recommendation requests kept lists could have answered but were scored
      */
     record Sample(Instant at, double seconds, double requestsPerSecond, double clientErrorsPerSecond,
-            double serverErrorsPerSecond, double[] latencyMs, Map<String, Double> strategiesPerSecond) {
+            double serverErrorsPerSecond, double[] latencyMs, Map<String, Double> strategiesPerSecond,
+            double keptListHitsPerSecond, double keptListMissesPerSecond) {
 
         long requests() {
             return Math.round(requestsPerSecond * seconds);
@@ -77,7 +80,8 @@ final class TrafficHistory {
             samples.addLast(new Sample(at, seconds, requests / seconds,
                     (now.clientErrors() - last.clientErrors()) / seconds,
                     (now.serverErrors() - last.serverErrors()) / seconds, latency,
-                    Collections.unmodifiableMap(strategies)));
+                    Collections.unmodifiableMap(strategies), (now.keptListHits() - last.keptListHits()) / seconds,
+                    (now.keptListMisses() - last.keptListMisses()) / seconds));
             while (samples.size() > capacity) {
                 samples.removeFirst();
             }

@@ -160,6 +160,8 @@ class DashboardBrowserTest {
         String strategies = text("#chart-strategies .summary");
         assertTrue(strategies.startsWith("Share over the window: model ") && strategies.contains("trust")
                 && strategies.contains("popular"), strategies);
+        // every round of traffic asks for one known cook twice: a hit among known cooks' misses
+        assertTrue(strategies.matches(".*; answered from kept lists [1-9][0-9]? % of those that could be"), strategies);
     }
 
     @Test

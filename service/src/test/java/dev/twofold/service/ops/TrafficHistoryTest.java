@@ -3,6 +3,10 @@ package dev.twofold.service.ops;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
+import dev.twofold.service.scoring.ListCache;
+import dev.twofold.service.scoring.Ranker;
+import dev.twofold.service.scoring.UserVector;
+import dev.twofold.service.testing.RandomModel;
 import java.time.Clock;
 import java.time.Instant;
 import java.util.List;
@@ -24,6 +28,12 @@ class TrafficHistoryTest {
             for (int j = 0; j < 3; j++) {
                 metrics.requestFinished("GET", RECOMMENDATIONS, 200, null, TimeUnit.MILLISECONDS.toNanos(900));
             }
+            // and user 0's list scored and kept
+            ListCache.Stats kept = new ListCache.Stats();
+            metrics.trackListCache(kept);
+            RandomModel m = new RandomModel(5, 3, 40, 4, 5);
+            ListCache lists = new ListCache(m.model.userIndexSpace(), 1 << 20, kept);
+            ask(lists, m, 0);
             history.record(T0, metrics.trafficTotals());
             assertTrue(history.samples().isEmpty(), "one reading makes no sample");
 
@@ -40,6 +50,11 @@ class TrafficHistoryTest {
                 metrics.recommended("model");
             }
             metrics.recommended("popular");
+            // kept ranked lists: 3 hits of user 0 and the miss of a new user
+            for (int j = 0; j < 3; j++) {
+                ask(lists, m, 0);
+            }
+            ask(lists, m, 1);
             history.record(T0.plusSeconds(10), metrics.trafficTotals());
 
             List<TrafficHistory.Sample> samples = history.samples();
@@ -49,6 +64,8 @@ class TrafficHistoryTest {
             assertEquals(0.1, s.clientErrorsPerSecond(), TOLERANCE);
             assertEquals(0.1, s.serverErrorsPerSecond(), TOLERANCE);
             assertEquals(Map.of("model", 4.0, "popular", 0.1), s.strategiesPerSecond());
+            assertEquals(0.3, s.keptListHitsPerSecond(), TOLERANCE);
+            assertEquals(0.1, s.keptListMissesPerSecond(), TOLERANCE);
             // every request of the interval took 0.4 ms, so every quantile lies in the bucket holding
             // 0.4 ms, and none reaches the 900 ms requests of before or the health route's 2 s
             for (double ms : s.latencyMs()) {
@@ -88,5 +105,11 @@ class TrafficHistoryTest {
             assertEquals(1.0, samples.get(0).requestsPerSecond(), TOLERANCE);
             assertEquals(1.0, samples.get(0).strategiesPerSecond().get("model"), TOLERANCE);
         }
+    }
+
+    /** Recommendations for user {@code user} of {@code m} through the kept lists. */
+    private static void ask(ListCache lists, RandomModel m, int user) {
+        int u = m.model.userIndex(m.userIds[user]);
+        new Ranker().recommendLater(m.model, UserVector.fromModel(m.model, u), u, 10, List.of(), lists).join();
     }
 }

@@ -586,8 +586,12 @@
       const totals = strategies.map((s) => d.traffic.samples.reduce((n, sample) => n + s.pick(sample), 0));
       const all = totals.reduce((a, b) => a + b, 0);
       if (all > 0) {
+        const hits = d.traffic.samples.reduce((n, sample) => n + (sample.keptListHitsPerSecond || 0), 0);
+        const misses = d.traffic.samples.reduce((n, sample) => n + (sample.keptListMissesPerSecond || 0), 0);
         document.querySelector('#chart-strategies .summary').textContent = 'Share over the window: '
-          + strategies.map((s, j) => s.key + ' ' + percent(totals[j] / all, 0)).join(' \u00B7 ');
+          + strategies.map((s, j) => s.key + ' ' + percent(totals[j] / all, 0)).join(' \u00B7 ')
+          + (hits + misses > 0 ? '; answered from kept lists ' + percent(hits / (hits + misses), 0)
+            + ' of those that could be' : '');
       }
     }
   }
