@@ -16,8 +16,8 @@ import java.util.concurrent.atomic.LongAdder;
  * served from here ({@code LiveModel} decides), and a new model starts with an empty cache. So a
  * kept list is exactly what scoring again would return, and freshness is untouched.
  *
- * <p><b>Memory.</b> One slot per user index modulo the slot count (no hashing, no locks, no
- * per-lookup allocation); a user whose slot is taken by another replaces them. Each list is one
+ * <p><b>Memory.</b> One slot per user index modulo the slot count (no hashing, no locks; a lookup
+ * allocates only its answer); a user whose slot is taken by another replaces them. Each list is one
  * int array of at most {@value #ENTRY_BYTES} bytes with its slot, so {@code budgetBytes} holds
  * {@code budgetBytes / ENTRY_BYTES} users, and never more than that. Thread-safe.
  */
