@@ -75,12 +75,8 @@ public final class LiveModel {
      */
     public CompletableFuture<Recommendation> recommendLater(Ranker ranker, String userId, int count,
             List<String> exclude) {
-        FreshUser folded = fresh.get(userId);
-        if (folded != null) {
-            return ranker.recommendLater(model, folded.vector(), count, exclude);
-        }
-        if (erased(userId)) {
-            return ranker.recommendLater(model, UserVector.popular(NONE, 0, 0), count, exclude);
+        if (fresh.get(userId) != null || erased(userId)) {
+            return ranker.recommendLater(model, user(userId), count, exclude);
         }
         int u = model.userIndex(userId);
         return ranker.recommendLater(model, UserVector.fromModel(model, u), u, count, exclude, lists);

@@ -85,10 +85,29 @@ public final class ListCache {
      */
     Recommendation get(int user, Strategy strategy, int count, int[] skip) {
         int[] entry = slots.get(user % slots.length());
-        if (entry == null || entry[USER] != user) {
+        Recommendation kept = entry == null || entry[USER] != user ? null : answer(entry, strategy, count, skip);
+        if (kept == null) {
             stats.misses.increment();
-            return null;
+        } else {
+            stats.hits.increment();
         }
+        return kept;
+    }
+
+    /**
+     * Keeps {@code user}'s list {@code full} (best first; at most {@value #DEPTH} items are kept) and
+     * answers a request that {@link #fits} from it, as {@link #get} would.
+     */
+    Recommendation keep(int user, Recommendation full, int count, int[] skip) {
+        return answer(put(user, full.items(), full.scores()), full.strategy(), count, skip);
+    }
+
+    /**
+     * The first {@code count} items of a kept list that are not in {@code skip} (sorted), or null
+     * when the list was cut at {@value #DEPTH} and skipping leaves fewer than {@code count}: items
+     * below the kept ones might be next.
+     */
+    private static Recommendation answer(int[] entry, Strategy strategy, int count, int[] skip) {
         int size = entry[SIZE];
         int[] items = new int[Math.min(count, size)];
         float[] scores = new float[items.length];
@@ -101,10 +120,8 @@ public final class ListCache {
             }
         }
         if (n < count && size == DEPTH) {
-            stats.misses.increment(); // cut short: items below the kept ones might be next
             return null;
         }
-        stats.hits.increment();
         return n == items.length ? new Recommendation(strategy, items, scores)
                 : new Recommendation(strategy, Arrays.copyOf(items, n), Arrays.copyOf(scores, n));
     }
@@ -121,27 +138,11 @@ public final class ListCache {
         }
     }
 
-    /** The first {@code count} items of {@code full} that are not in {@code skip} (sorted). */
-    static Recommendation cut(Recommendation full, int count, int[] skip) {
-        int[] items = new int[Math.min(count, full.size())];
-        float[] scores = new float[items.length];
-        int n = 0;
-        for (int j = 0; j < full.size() && n < items.length; j++) {
-            int item = full.items()[j];
-            if (skip.length == 0 || Arrays.binarySearch(skip, item) < 0) {
-                items[n] = item;
-                scores[n++] = full.scores()[j];
-            }
-        }
-        return n == items.length ? new Recommendation(full.strategy(), items, scores)
-                : new Recommendation(full.strategy(), Arrays.copyOf(items, n), Arrays.copyOf(scores, n));
-    }
-
     /**
      * Keeps {@code user}'s best items, at most {@value #DEPTH} of them; fewer means these are all
-     * the items the user has not rated.
+     * the items the user has not rated. Returns the kept entry.
      */
-    void put(int user, int[] items, float[] scores) {
+    int[] put(int user, int[] items, float[] scores) {
         int size = Math.min(items.length, DEPTH);
         int[] entry = new int[HEADER + 2 * size];
         entry[USER] = user;
@@ -151,5 +152,6 @@ public final class ListCache {
             entry[HEADER + size + j] = Float.floatToRawIntBits(scores[j]);
         }
         slots.set(user % slots.length(), entry);
+        return entry;
     }
 }

@@ -61,13 +61,17 @@ public final class Ranker {
      */
     public CompletableFuture<Recommendation> recommendLater(ServingModel model, UserVector user, int count,
             List<String> exclude) {
+        return rank(model, user, count, indices(model, exclude));
+    }
+
+    /** {@link #recommendLater} with the excluded items as serving indices, sorted and distinct. */
+    private CompletableFuture<Recommendation> rank(ServingModel model, UserVector user, int count, int[] excluded) {
         if (count < 0) {
             throw new IllegalArgumentException("count " + count + " must be >= 0");
         }
         int[] skip = user.rated();
         int skipFrom = user.ratedFrom();
         int skipTo = user.ratedTo();
-        int[] excluded = indices(model, exclude);
         if (excluded.length > 0) {
             skip = union(skip, skipFrom, skipTo, excluded);
             skipFrom = 0;
@@ -104,17 +108,14 @@ public final class Ranker {
             int count, List<String> exclude, ListCache lists) {
         int[] excluded = indices(model, exclude);
         if (!user.hasVector() || count < 0 || !lists.fits(count, excluded.length)) {
-            return recommendLater(model, user, count, exclude);
+            return rank(model, user, count, excluded);
         }
         Recommendation kept = lists.get(userIndex, user.strategy(), count, excluded);
         if (kept != null) {
             return CompletableFuture.completedFuture(kept);
         }
         return score(model, user, ListCache.DEPTH, user.rated(), user.ratedFrom(), user.ratedTo())
-                .thenApply(full -> {
-                    lists.put(userIndex, full.items(), full.scores());
-                    return ListCache.cut(full, count, excluded);
-                });
+                .thenApply(full -> lists.keep(userIndex, full, count, excluded));
     }
 
     /**
